@@ -1,0 +1,82 @@
+import { createHash } from 'node:crypto';
+import type { RequestHandler, Request } from 'express';
+import passport from 'passport';
+import { Strategy as JwtStrategy, ExtractJwt } from 'passport-jwt';
+import { User } from '../models/User';
+import { ApiToken } from '../models/ApiToken';
+import type { AuthenticatedUser } from './access';
+
+export const SESSION_COOKIE = 'loadline_session';
+/** Named script tokens start with this, so they are never mistaken for a signed session token. */
+export const API_TOKEN_PREFIX = 'llt_';
+
+export function hashApiToken(secret: string): string {
+  return createHash('sha256').update(secret).digest('hex');
+}
+
+function fromCookie(req: Request): string | null {
+  return (req.cookies?.[SESSION_COOKIE] as string | undefined) ?? null;
+}
+
+function bearer(req: Request): string | null {
+  return ExtractJwt.fromAuthHeaderAsBearerToken()(req);
+}
+
+/** Sessions are JWTs (cookie for the browser, Bearer for scripts); each request re-reads the user so deactivation bites at once. */
+export function configurePassport(jwtSecret: string): void {
+  passport.use(
+    new JwtStrategy(
+      {
+        secretOrKey: jwtSecret,
+        algorithms: ['HS256'],
+        jwtFromRequest: (req: Request) => {
+          const token = bearer(req) ?? fromCookie(req);
+          return token && !token.startsWith(API_TOKEN_PREFIX) ? token : null;
+        },
+      },
+      (payload: { sub: string; iat: number }, done: (err: unknown, user?: AuthenticatedUser | false) => void) => {
+        User.query()
+          .findById(Number(payload.sub))
+          .then((user) => {
+            if (!user || !user.active) return done(null, false);
+            // iat is in seconds; a session issued before sessions_valid_after is dead.
+            if (payload.iat * 1000 < new Date(user.sessions_valid_after).getTime() - 999) return done(null, false);
+            done(null, { id: user.id, email: user.email, name: user.name, role: user.role, via: 'session' });
+          })
+          .catch(done);
+      },
+    ),
+  );
+}
+
+async function userFromApiToken(secret: string): Promise<AuthenticatedUser | null> {
+  const token = await ApiToken.query()
+    .where({ token_hash: hashApiToken(secret) })
+    .whereNull('revoked_at')
+    .where((q) => q.whereNull('expires_at').orWhere('expires_at', '>', new Date()))
+    .first();
+  if (!token) return null;
+  const user = await User.query().findById(token.user_id);
+  if (!user || !user.active) return null;
+  await ApiToken.query().patch({ last_used_at: new Date() }).where({ id: token.id });
+  return { id: user.id, email: user.email, name: user.name, role: user.role, via: 'api-token' };
+}
+
+/** Sets req.user when the request carries valid credentials; never rejects by itself (requireAccess does). */
+export const authenticate: RequestHandler = (req, res, next) => {
+  const token = bearer(req);
+  if (token?.startsWith(API_TOKEN_PREFIX)) {
+    userFromApiToken(token)
+      .then((user) => {
+        if (user) req.user = user;
+        next();
+      })
+      .catch(next);
+    return;
+  }
+  passport.authenticate('jwt', { session: false }, (err: unknown, user: AuthenticatedUser | false) => {
+    if (err) return next(err);
+    if (user) req.user = user;
+    next();
+  })(req, res, next);
+};

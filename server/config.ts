@@ -1,0 +1,61 @@
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { randomBytes } from 'node:crypto';
+import { join, resolve } from 'node:path';
+
+/** Everything the server reads from its environment, read once. */
+export interface Config {
+  databaseUrl: string;
+  port: number;
+  host: string;
+  jwtSecret: string;
+  /** Session token lifetime in seconds. */
+  sessionTtlSeconds: number;
+  smtpUrl: string;
+  smtpSinkPort: number;
+  mailFrom: string;
+  publicUrl: string;
+  dataDir: string;
+  uploadLimitBytes: number;
+  /** Behind a proxy, Express must trust it to see client IPs (rate limits, audit). */
+  trustProxy: boolean;
+  corsOrigins: string[];
+}
+
+const repoRoot = resolve(import.meta.dirname, '..');
+
+function secretFromDataDir(dataDir: string): string {
+  const file = join(dataDir, 'jwt-secret');
+  if (existsSync(file)) return readFileSync(file, 'utf8').trim();
+  mkdirSync(dataDir, { recursive: true });
+  const secret = randomBytes(32).toString('hex');
+  writeFileSync(file, secret, { mode: 0o600 });
+  return secret;
+}
+
+export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
+  const dataDir = env.LOADLINE_DATA_DIR ?? join(repoRoot, '.data');
+  const port = Number(env.PORT ?? 5180);
+  const smtpSinkPort = Number(env.SMTP_SINK_PORT ?? 2525);
+  if (!env.DATABASE_URL) throw new Error('DATABASE_URL is not set: start Loadline with `npm start` or set it to a PostgreSQL URL');
+  return {
+    databaseUrl: env.DATABASE_URL,
+    port,
+    host: env.HOST ?? '127.0.0.1',
+    jwtSecret: env.JWT_SECRET ?? secretFromDataDir(dataDir),
+    sessionTtlSeconds: Number(env.SESSION_TTL_SECONDS ?? 8 * 3600),
+    smtpUrl: env.SMTP_URL ?? `smtp://127.0.0.1:${smtpSinkPort}`,
+    smtpSinkPort,
+    mailFrom: env.MAIL_FROM ?? 'Loadline <loadline@localhost>',
+    publicUrl: env.PUBLIC_URL ?? `http://127.0.0.1:${port}`,
+    dataDir,
+    uploadLimitBytes: Number(env.UPLOAD_LIMIT_MB ?? 200) * 1024 * 1024,
+    trustProxy: env.TRUST_PROXY === 'true',
+    corsOrigins: (env.CORS_ORIGINS ?? '').split(',').map((s) => s.trim()).filter(Boolean),
+  };
+}
+
+export const paths = {
+  repoRoot,
+  clientDist: join(repoRoot, 'dist', 'client'),
+  migrations: join(repoRoot, 'migrations'),
+};

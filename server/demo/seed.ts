@@ -1,0 +1,19 @@
+import type { Knex } from 'knex';
+import { upsertUser } from '../services/authService';
+import { DEMO_USERS } from './users';
+
+/**
+ * Seeds the invented demo (users, then each feature's demo data) into an empty database.
+ * Each step is a function of its own so features add theirs here.
+ */
+export async function seedDemo(knex: Knex, log: (message: string) => void = console.log): Promise<void> {
+  for (const user of DEMO_USERS) await upsertUser(user);
+  log(`[seed] ${DEMO_USERS.length} demo users`);
+  void knex;
+}
+
+/** True when nothing has been stored yet (no users): the only time the demo is seeded. */
+export async function databaseIsEmpty(knex: Knex): Promise<boolean> {
+  const row = await knex('users').count<{ count: number }[]>({ count: '*' }).first();
+  return Number(row?.count ?? 0) === 0;
+}

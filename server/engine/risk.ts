@@ -1,0 +1,319 @@
+/**
+ * Portfolio risk for any covariance model. Factor models use the low-rank form
+ * Σ = W Wᵀ + diag Ψ: every figure below costs O(N·L) per portfolio and never forms N × N
+ * (w'Σw = ‖Wᵀw‖² + Σᵢ Ψᵢwᵢ²). Dense models (sample, Ledoit–Wolf) use Σw directly, O(N²).
+ *
+ * Figures are model estimates, not guarantees: they assume the fitted covariance holds over the horizon,
+ * and the parametric VaR/ES assume normal returns and square-root-of-time scaling.
+ */
+import type { CovarianceModel } from './types';
+import { assertWeights, covarianceTimes, loadingsTransposeTimes } from './lowRank';
+import { NORMAL_QUANTILE_95, NORMAL_QUANTILE_99, normalDensity, normalQuantile } from './normalDistribution';
+import { createRandom } from './random';
+import { sampleReturns } from './sampling';
+
+/** Periods per year used to annualise volatility by √(periods per year): common practice. */
+export const PERIODS_PER_YEAR = { daily: 252, weekly: 52, monthly: 12 } as const;
+
+export const DEFAULT_CONFIDENCE_LEVELS = [0.95, 0.99] as const;
+
+export const EXPOSURE_CAVEAT =
+  'Exposures to single factors depend on the orientation of the loadings (here the canonical one: WᵀΨ⁻¹W diagonal, ' +
+  'columns by decreasing variance, each column’s largest loading positive). Any rotation W → WR fits the data equally ' +
+  'well; only the factor variance share and ‖Wᵀw‖ are rotation-invariant.';
+
+export const RISK_ASSUMPTIONS = [
+  'Model estimates, not guarantees: past volatility may not predict future volatility.',
+  'Parametric VaR and expected shortfall assume normally distributed returns.',
+  'Horizons longer than one period use square-root-of-time scaling (independent, identically distributed returns).',
+  'The firm’s risk policy governs any decision taken on these figures.',
+] as const;
+
+export interface RiskOptions {
+  /** Periods per year for annualisation (default 252, daily). */
+  periodsPerYear?: number;
+  /** VaR/ES horizon in periods (default 1). */
+  horizon?: number;
+  /** Confidence levels for VaR/ES (default 0.95 and 0.99). */
+  confidenceLevels?: readonly number[];
+  /** Benchmark weights for active risk (tracking error). */
+  benchmark?: ArrayLike<number>;
+  /** Include the model's mean return in VaR/ES (default false: zero mean, common practice for daily risk). */
+  includeMean?: boolean;
+}
+
+export interface TailRisk {
+  confidence: number;
+  /** The standard normal quantile Φ⁻¹(confidence) used (exact, e.g. 1.6448536… for 95 %). */
+  quantile: number;
+  horizon: number;
+  /** Loss as a positive fraction of portfolio value. */
+  valueAtRisk: number;
+  expectedShortfall: number;
+}
+
+export interface VarianceBreakdown {
+  variance: number;
+  volatility: number;
+  annualisedVolatility: number;
+  /** ‖Wᵀw‖² for factor models; null for dense models. */
+  factorVariance: number | null;
+  /** Σᵢ Ψᵢwᵢ² for factor models; null for dense models. */
+  specificVariance: number | null;
+  /** ∂σ/∂wᵢ = (Σw)ᵢ / σ (Euler marginal contribution). */
+  marginalContributions: Float64Array;
+  /** wᵢ (Σw)ᵢ / σ; they sum to σ (Euler's theorem for the degree-1 homogeneous σ(w)). */
+  contributions: Float64Array;
+  /** wᵢ (Σw)ᵢ / σ²; they sum to 1. */
+  percentContributions: Float64Array;
+}
+
+export interface ExposureSummary {
+  /** ‖Wᵀw‖² / w'Σw: rotation-invariant. */
+  factorVarianceShare: number;
+  /** ‖Wᵀw‖: rotation-invariant. */
+  exposureNorm: number;
+  /** Wᵀw in the model's (canonical) orientation: depends on the orientation. */
+  exposures: Float64Array;
+  caveat: string;
+}
+
+export interface PortfolioRisk extends VarianceBreakdown {
+  periodsPerYear: number;
+  /** wᵀμ, the model's mean return per period. */
+  meanReturn: number;
+  parametric: TailRisk[];
+  /** Active risk against the benchmark, when one was given. */
+  active: (VarianceBreakdown & { activeWeights: Float64Array }) | null;
+  /** Rotation-invariant exposure summary (factor models only). */
+  exposure: ExposureSummary | null;
+  assumptions: readonly string[];
+}
+
+function checkOptions(options: RiskOptions): Required<Omit<RiskOptions, 'benchmark'>> {
+  const periodsPerYear = options.periodsPerYear ?? PERIODS_PER_YEAR.daily;
+  const horizon = options.horizon ?? 1;
+  const confidenceLevels = options.confidenceLevels ?? DEFAULT_CONFIDENCE_LEVELS;
+  if (!(periodsPerYear > 0) || !Number.isFinite(periodsPerYear)) throw new Error(`periodsPerYear must be positive, got ${periodsPerYear}`);
+  if (!(horizon > 0) || !Number.isFinite(horizon)) throw new Error(`horizon must be a positive number of periods, got ${horizon}`);
+  for (const c of confidenceLevels) {
+    if (!(c > 0 && c < 1)) throw new Error(`confidence levels must lie in (0, 1), got ${c}`);
+  }
+  return { periodsPerYear, horizon, confidenceLevels, includeMean: options.includeMean ?? false };
+}
+
+/** Standard normal quantile, returning the named exact constants at the two usual levels. */
+export function confidenceQuantile(confidence: number): number {
+  if (confidence === 0.95) return NORMAL_QUANTILE_95;
+  if (confidence === 0.99) return NORMAL_QUANTILE_99;
+  return normalQuantile(confidence);
+}
+
+/**
+ * Variance, factor/specific split and Euler contributions (Tasche 1999; Litterman 1996) of weights w.
+ * Factor model: w'Σw = ‖Wᵀw‖² + Σᵢ Ψᵢwᵢ²; Σw = W(Wᵀw) + Ψ∘w.
+ */
+export function varianceBreakdown(model: CovarianceModel, weights: ArrayLike<number>, periodsPerYear = PERIODS_PER_YEAR.daily): VarianceBreakdown {
+  const n = model.assets;
+  const sigmaW = covarianceTimes(model, weights);
+  let variance = 0;
+  for (let i = 0; i < n; i++) variance += weights[i] * sigmaW[i];
+  let factorVariance: number | null = null;
+  let specificVariance: number | null = null;
+  if (model.kind === 'factor') {
+    const y = loadingsTransposeTimes(model, weights);
+    factorVariance = 0;
+    for (let k = 0; k < y.length; k++) factorVariance += y[k] * y[k];
+    specificVariance = 0;
+    for (let i = 0; i < n; i++) specificVariance += model.specificVariance[i] * weights[i] * weights[i];
+    variance = factorVariance + specificVariance; // the same number, summed from non-negative parts
+  }
+  variance = Math.max(variance, 0);
+  const volatility = Math.sqrt(variance);
+  const marginalContributions = new Float64Array(n);
+  const contributions = new Float64Array(n);
+  const percentContributions = new Float64Array(n);
+  if (volatility > 0) {
+    for (let i = 0; i < n; i++) {
+      marginalContributions[i] = sigmaW[i] / volatility;
+      contributions[i] = weights[i] * marginalContributions[i];
+      percentContributions[i] = (weights[i] * sigmaW[i]) / variance;
+    }
+  }
+  return {
+    variance,
+    volatility,
+    annualisedVolatility: volatility * Math.sqrt(periodsPerYear),
+    factorVariance,
+    specificVariance,
+    marginalContributions,
+    contributions,
+    percentContributions,
+  };
+}
+
+/**
+ * Normal VaR and ES of a position with per-period mean m and volatility σ over h periods, square-root-of-time:
+ * VaR_α = z_α σ √h − m h,  ES_α = σ √h φ(z_α)/(1 − α) − m h
+ * (McNeil, Frey & Embrechts 2005, Quantitative Risk Management, Example 2.14 for normal VaR and ES; cited from memory).
+ */
+export function parametricTailRisk(volatility: number, meanReturn: number, horizon: number, confidence: number): TailRisk {
+  const z = confidenceQuantile(confidence);
+  const scale = volatility * Math.sqrt(horizon);
+  const drift = meanReturn * horizon;
+  return {
+    confidence,
+    quantile: z,
+    horizon,
+    valueAtRisk: z * scale - drift,
+    expectedShortfall: (scale * normalDensity(z)) / (1 - confidence) - drift,
+  };
+}
+
+/** Full risk report of one portfolio. */
+export function portfolioRisk(model: CovarianceModel, weights: ArrayLike<number>, options: RiskOptions = {}): PortfolioRisk {
+  assertWeights(model, weights);
+  if (options.benchmark) assertWeights(model, options.benchmark, 'benchmark weights');
+  return riskUnchecked(model, weights, checkOptions(options), options.benchmark);
+}
+
+function riskUnchecked(
+  model: CovarianceModel,
+  weights: ArrayLike<number>,
+  opts: Required<Omit<RiskOptions, 'benchmark'>>,
+  benchmark: ArrayLike<number> | undefined,
+): PortfolioRisk {
+  const n = model.assets;
+  const breakdown = varianceBreakdown(model, weights, opts.periodsPerYear);
+  let meanReturn = 0;
+  for (let i = 0; i < n; i++) meanReturn += weights[i] * model.mean[i];
+  const drift = opts.includeMean ? meanReturn : 0;
+  const parametric = opts.confidenceLevels.map((c) => parametricTailRisk(breakdown.volatility, drift, opts.horizon, c));
+
+  let active: PortfolioRisk['active'] = null;
+  if (benchmark) {
+    const activeWeights = new Float64Array(n);
+    for (let i = 0; i < n; i++) activeWeights[i] = weights[i] - benchmark[i];
+    active = { ...varianceBreakdown(model, activeWeights, opts.periodsPerYear), activeWeights };
+  }
+
+  let exposure: ExposureSummary | null = null;
+  if (model.kind === 'factor') {
+    const exposures = loadingsTransposeTimes(model, weights);
+    const factorVariance = breakdown.factorVariance ?? 0;
+    exposure = {
+      factorVarianceShare: breakdown.variance > 0 ? factorVariance / breakdown.variance : 0,
+      exposureNorm: Math.sqrt(factorVariance),
+      exposures,
+      caveat: EXPOSURE_CAVEAT,
+    };
+  }
+  return { ...breakdown, periodsPerYear: opts.periodsPerYear, meanReturn, parametric, active, exposure, assumptions: RISK_ASSUMPTIONS };
+}
+
+/**
+ * Risk of many portfolios on one model (e.g. every fund of a firm each night). The options (and benchmark) apply to
+ * all portfolios. Factor models: O(P·N·L) in all.
+ */
+export function portfolioRiskBatch(model: CovarianceModel, portfolios: readonly ArrayLike<number>[], options: RiskOptions = {}): PortfolioRisk[] {
+  const opts = checkOptions(options);
+  if (options.benchmark) assertWeights(model, options.benchmark, 'benchmark weights');
+  return portfolios.map((w, p) => {
+    assertWeights(model, w, `portfolio ${p} weights`);
+    return riskUnchecked(model, w, opts, options.benchmark);
+  });
+}
+
+export interface MonteCarloOptions {
+  seed: number;
+  /** Number of simulated periods (default 10 000). */
+  draws?: number;
+  horizon?: number;
+  confidenceLevels?: readonly number[];
+  includeMean?: boolean;
+  /** Draws simulated at a time (memory bound; default 1000). */
+  chunkSize?: number;
+}
+
+export interface MonteCarloTailRisk {
+  confidence: number;
+  horizon: number;
+  /** Empirical α-quantile of simulated losses, L_(⌈nα⌉) of the sorted losses. */
+  valueAtRisk: number;
+  /** Mean of the n − ⌈nα⌉ largest simulated losses (Acerbi & Tasche 2002, the natural ES estimator). */
+  expectedShortfall: number;
+}
+
+export interface MonteCarloRisk {
+  draws: number;
+  seed: number;
+  /** Sample volatility of the simulated one-period returns (a check against the model volatility). */
+  simulatedVolatility: number;
+  levels: MonteCarloTailRisk[];
+}
+
+/**
+ * Monte Carlo VaR/ES from the model's generative form (x = μ + Wz + ε; see sampling.ts): draws one-period return
+ * vectors, values every portfolio on the same draws, and scales to h periods as h·m + √h·(r − m), which is exact in
+ * distribution for i.i.d. Gaussian periods (the same square-root-of-time assumption as the parametric figures).
+ */
+export function monteCarloRisk(model: CovarianceModel, portfolios: readonly ArrayLike<number>[], options: MonteCarloOptions): MonteCarloRisk[] {
+  const draws = options.draws ?? 10_000;
+  const horizon = options.horizon ?? 1;
+  const levels = options.confidenceLevels ?? DEFAULT_CONFIDENCE_LEVELS;
+  const chunkSize = options.chunkSize ?? 1000;
+  if (!(Number.isInteger(draws) && draws >= 1)) throw new Error(`draws must be a positive integer, got ${draws}`);
+  if (!(horizon > 0)) throw new Error(`horizon must be positive, got ${horizon}`);
+  for (const c of levels) {
+    if (!(c > 0 && c < 1)) throw new Error(`confidence levels must lie in (0, 1), got ${c}`);
+    if (draws - Math.ceil(draws * c - 1e-9) < 1) throw new Error(`${draws} draws are too few for a ${c} tail: raise draws`);
+  }
+  portfolios.forEach((w, p) => assertWeights(model, w, `portfolio ${p} weights`));
+  const n = model.assets;
+  const means = portfolios.map((w) => {
+    let m = 0;
+    for (let i = 0; i < n; i++) m += w[i] * model.mean[i];
+    return m;
+  });
+  const returns = portfolios.map(() => new Float64Array(draws));
+  const rng = createRandom(options.seed);
+  for (let start = 0; start < draws; start += chunkSize) {
+    const rows = Math.min(chunkSize, draws - start);
+    const panel = sampleReturns(model, { observations: rows, random: rng });
+    for (let p = 0; p < portfolios.length; p++) {
+      const w = portfolios[p];
+      const out = returns[p];
+      for (let r = 0; r < rows; r++) {
+        let s = 0;
+        const base = r * n;
+        for (let i = 0; i < n; i++) s += w[i] * panel.values[base + i];
+        out[start + r] = s;
+      }
+    }
+  }
+  const rootH = Math.sqrt(horizon);
+  return portfolios.map((_, p) => {
+    const m = means[p];
+    const drift = options.includeMean ? m * horizon : 0;
+    const one = returns[p];
+    let ss = 0;
+    let mean = 0;
+    for (let j = 0; j < draws; j++) mean += one[j];
+    mean /= draws;
+    for (let j = 0; j < draws; j++) ss += (one[j] - mean) ** 2;
+    const losses = new Float64Array(draws);
+    for (let j = 0; j < draws; j++) losses[j] = -(drift + rootH * (one[j] - m));
+    losses.sort();
+    return {
+      draws,
+      seed: options.seed,
+      simulatedVolatility: draws > 1 ? Math.sqrt(ss / (draws - 1)) : 0,
+      levels: levels.map((c) => {
+        const m1 = Math.ceil(draws * c - 1e-9); // 1-based index of the α-quantile
+        let tail = 0;
+        for (let j = m1; j < draws; j++) tail += losses[j];
+        return { confidence: c, horizon, valueAtRisk: losses[m1 - 1], expectedShortfall: tail / (draws - m1) };
+      }),
+    };
+  });
+}

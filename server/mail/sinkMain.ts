@@ -1,0 +1,2 @@
+// Placeholder replaced by the mail-sink implementation.
+setInterval(() => undefined, 1 << 30);

@@ -1,0 +1,37 @@
+import bcrypt from 'bcryptjs';
+import jwt from 'jsonwebtoken';
+import { User } from '../models/User';
+
+const BCRYPT_ROUNDS = 11;
+// Compared against when the e-mail is unknown, so both failures take the same time.
+const DUMMY_HASH = bcrypt.hashSync('loadline-no-such-user', BCRYPT_ROUNDS);
+
+export function hashPassword(password: string): Promise<string> {
+  return bcrypt.hash(password, BCRYPT_ROUNDS);
+}
+
+export async function findUserByEmail(email: string): Promise<User | undefined> {
+  return User.query().whereRaw('lower(email) = lower(?)', [email.trim()]).first();
+}
+
+/** The user when the e-mail and password match an active account, else null (callers answer a generic 401). */
+export async function verifyCredentials(email: string, password: string): Promise<User | null> {
+  const user = await findUserByEmail(email);
+  const ok = await bcrypt.compare(password, user?.password_hash ?? DUMMY_HASH);
+  if (!user || !user.password_hash || !ok || !user.active) return null;
+  return user;
+}
+
+export function issueSessionToken(user: User, secret: string, ttlSeconds: number): string {
+  return jwt.sign({ sub: String(user.id), role: user.role }, secret, { algorithm: 'HS256', expiresIn: ttlSeconds });
+}
+
+/** Creates or resets a user's password and role (used for LOADLINE_ADMIN_* and the demo seed). */
+export async function upsertUser(input: { email: string; name: string; role: User['role']; password: string }): Promise<User> {
+  const passwordHash = await hashPassword(input.password);
+  const existing = await findUserByEmail(input.email);
+  if (existing) {
+    return existing.$query().patchAndFetch({ name: input.name, role: input.role, password_hash: passwordHash, active: true });
+  }
+  return User.query().insertAndFetch({ email: input.email.trim(), name: input.name, role: input.role, password_hash: passwordHash, active: true });
+}

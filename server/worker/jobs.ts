@@ -1,0 +1,6 @@
+import type PgBoss from 'pg-boss';
+
+/** Every queue the worker serves: each feature adds its queue and handler here. */
+export async function registerJobHandlers(boss: PgBoss): Promise<void> {
+  void boss;
+}

@@ -1,0 +1,57 @@
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { Server } from 'node:http';
+import { chromium, type BrowserContext, type Page } from 'playwright-core';
+import { loadConfig } from '../../server/config';
+import { createKnex, bindModels } from '../../server/db/knex';
+import { createApp } from '../../server/app';
+import { demoUser } from './app';
+import type { Role } from '../../shared/schemas/common';
+
+/** Debian's Chromium, headless, with a fresh profile; flags per the stack notes (no background networking). */
+export async function launchBrowser(): Promise<{ context: BrowserContext; close: () => Promise<void> }> {
+  const profile = mkdtempSync(join(tmpdir(), 'loadline-chromium-'));
+  const context = await chromium.launchPersistentContext(profile, {
+    executablePath: '/usr/bin/chromium',
+    headless: true,
+    viewport: { width: 1400, height: 900 },
+    args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run', '--disable-quic'],
+  });
+  return {
+    context,
+    close: async () => {
+      await context.close();
+      rmSync(profile, { recursive: true, force: true });
+    },
+  };
+}
+
+/** The real app (serving the built client from dist/client) on a free loopback port. */
+export async function startServer(): Promise<{ url: string; close: () => Promise<void> }> {
+  const config = loadConfig();
+  const knex = createKnex(config.databaseUrl, { max: 5 });
+  bindModels(knex);
+  const app = createApp({ ...config, publicUrl: 'http://127.0.0.1' });
+  const server: Server = await new Promise((done) => {
+    const s = app.listen(0, '127.0.0.1', () => done(s));
+  });
+  const address = server.address();
+  const port = typeof address === 'object' && address ? address.port : 0;
+  return {
+    url: `http://127.0.0.1:${port}`,
+    close: async () => {
+      await new Promise((done) => server.close(() => done(undefined)));
+      await knex.destroy();
+    },
+  };
+}
+
+export async function signInThroughUi(page: Page, baseUrl: string, role: Role): Promise<void> {
+  const user = demoUser(role);
+  await page.goto(`${baseUrl}/sign-in`);
+  await page.getByLabel('E-mail').fill(user.email);
+  await page.getByLabel('Password').fill(user.password);
+  await page.getByRole('button', { name: 'Sign in' }).click();
+  await page.waitForURL((url) => !url.pathname.startsWith('/sign-in'));
+}
