@@ -113,7 +113,7 @@ export function confidenceQuantile(confidence: number): number {
  * Variance, factor/specific split and Euler contributions (Tasche 1999; Litterman 1996) of weights w.
  * Factor model: w'Σw = ‖Wᵀw‖² + Σᵢ Ψᵢwᵢ²; Σw = W(Wᵀw) + Ψ∘w.
  */
-export function varianceBreakdown(model: CovarianceModel, weights: ArrayLike<number>, periodsPerYear = PERIODS_PER_YEAR.daily): VarianceBreakdown {
+export function varianceBreakdown(model: CovarianceModel, weights: ArrayLike<number>, periodsPerYear: number = PERIODS_PER_YEAR.daily): VarianceBreakdown {
   const n = model.assets;
   const sigmaW = covarianceTimes(model, weights);
   let variance = 0;

@@ -165,7 +165,7 @@ export function varimax(loadings: Float64Array, n: number, l: number, options: V
       for (let k = 0; k < l; k++) x[i * l + k] /= scale[i];
     }
   }
-  let rotation = new Float64Array(l * l);
+  let rotation: Float64Array = new Float64Array(l * l);
   for (let k = 0; k < l; k++) rotation[k * l + k] = 1;
   let d = 0;
   let iterations = 0;
