@@ -5,7 +5,7 @@
  * subspace spanned by the loadings are invariant; single loadings columns are not.
  */
 import type { CovarianceModel, FactorModel } from './types';
-import { orthonormalBasis, singularValues, thinSvd, multiply, multiplyTransposeA, transpose } from './smallDense';
+import { orthonormalBasis, singularValues, multiply, multiplyTransposeA, transpose } from './smallDense';
 
 /** Communalities hᵢ = Σₖ Wᵢₖ² (Harman 1976, eq. 2.13): the variance of asset i explained by the factors. */
 export function communalities(model: FactorModel): Float64Array {
@@ -125,8 +125,9 @@ export function loadingSubspaceAngles(first: FactorModel, second: FactorModel): 
 export interface VarimaxOptions {
   /** Kaiser normalisation: rotate the row-normalised loadings W_i/√hᵢ (default true, as in Kaiser 1958 and R's varimax). */
   normalize?: boolean;
-  /** Stop when the criterion's relative gain is below this (default 1e-10). */
+  /** Stop when every pairwise rotation angle of a sweep is below this, in radians (default 1e-12). */
   tolerance?: number;
+  /** Maximum number of sweeps over all pairs of factors (default 500). */
   maxIterations?: number;
 }
 
@@ -137,24 +138,27 @@ export interface VarimaxResult {
   loadings: Float64Array;
   /** The orthogonal L × L rotation R (row-major) with rotated = W R. */
   rotation: Float64Array;
-  /** Kaiser's varimax criterion Σₖ [Σᵢ bᵢₖ⁴ − (Σᵢ bᵢₖ²)²/N] / N on the (normalised) rotated loadings. */
+  /** Kaiser's varimax criterion Σₖ [N Σᵢ bᵢₖ⁴ − (Σᵢ bᵢₖ²)²] / N² on the (normalised) rotated loadings. */
   criterion: number;
+  /** Sweeps over all pairs of factors. */
   iterations: number;
   converged: boolean;
   normalized: boolean;
 }
 
 /**
- * Varimax rotation (Kaiser 1958, "The varimax criterion for analytic rotation in factor analysis", eq. (4)),
- * maximised by the SVD-based iteration R ← U Vᵀ with U S Vᵀ = Bᵀ(Z³ − Z diag(ZᵀZ)/N), Z = B R
- * (the algorithm of R's stats::varimax; see also ten Berge 1984). An interpretation aid, labelled as such:
- * rotated loadings give the same W Wᵀ, so risk figures do not change.
+ * Varimax rotation (Kaiser 1958, "The varimax criterion for analytic rotation in factor analysis", Psychometrika 23):
+ * maximises V = Σₖ [N Σᵢ bᵢₖ⁴ − (Σᵢ bᵢₖ²)²]/N² by sweeps of plane rotations, each the exact maximiser for one pair
+ * of columns (x, y): with uᵢ = xᵢ² − yᵢ², vᵢ = 2xᵢyᵢ, A = Σu, B = Σv, C = Σ(u² − v²), D = 2Σuv,
+ * tan 4φ = (D − 2AB/N) / (C − (A² − B²)/N) (Kaiser 1958, eq. (20); Harman 1976, section 14.4).
+ * Pairwise sweeps increase V monotonically, so the iteration cannot cycle (the SVD-based fixed-point form can, on
+ * exactly symmetric structures). An interpretation aid, labelled as such: W Wᵀ and every risk figure are unchanged.
  */
 export function varimax(loadings: Float64Array, n: number, l: number, options: VarimaxOptions = {}): VarimaxResult {
   if (loadings.length !== n * l) throw new Error('varimax: loadings size does not match n × l');
   const normalize = options.normalize ?? true;
-  const tolerance = options.tolerance ?? 1e-10;
-  const maxIterations = options.maxIterations ?? 1000;
+  const tolerance = options.tolerance ?? 1e-12;
+  const maxIterations = options.maxIterations ?? 500;
   const x = loadings.slice();
   const scale = new Float64Array(n).fill(1);
   if (normalize) {
@@ -165,35 +169,50 @@ export function varimax(loadings: Float64Array, n: number, l: number, options: V
       for (let k = 0; k < l; k++) x[i * l + k] /= scale[i];
     }
   }
-  let rotation: Float64Array = new Float64Array(l * l);
+  const rotation: Float64Array = new Float64Array(l * l);
   for (let k = 0; k < l; k++) rotation[k * l + k] = 1;
-  let d = 0;
+  const current = x.slice(); // x · rotation, kept up to date
   let iterations = 0;
   let converged = l <= 1;
-  if (l > 1) {
-    for (iterations = 1; iterations <= maxIterations; iterations++) {
-      const z = multiply(x, rotation, n, l, l);
-      const colSq = new Float64Array(l);
-      for (let i = 0; i < n; i++) for (let k = 0; k < l; k++) colSq[k] += z[i * l + k] ** 2;
-      const target = new Float64Array(n * l);
-      for (let i = 0; i < n; i++) {
-        for (let k = 0; k < l; k++) {
-          const v = z[i * l + k];
-          target[i * l + k] = v * v * v - (v * colSq[k]) / n;
+  while (!converged && iterations < maxIterations) {
+    iterations++;
+    let largest = 0;
+    for (let p = 0; p < l - 1; p++) {
+      for (let q = p + 1; q < l; q++) {
+        let a = 0;
+        let b = 0;
+        let c = 0;
+        let d = 0;
+        for (let i = 0; i < n; i++) {
+          const xi = current[i * l + p];
+          const yi = current[i * l + q];
+          const u = xi * xi - yi * yi;
+          const v = 2 * xi * yi;
+          a += u;
+          b += v;
+          c += u * u - v * v;
+          d += 2 * u * v;
+        }
+        const phi = Math.atan2(d - (2 * a * b) / n, c - (a * a - b * b) / n) / 4;
+        if (Math.abs(phi) <= tolerance) continue;
+        largest = Math.max(largest, Math.abs(phi));
+        const cos = Math.cos(phi);
+        const sin = Math.sin(phi);
+        for (let i = 0; i < n; i++) {
+          const xi = current[i * l + p];
+          const yi = current[i * l + q];
+          current[i * l + p] = xi * cos + yi * sin;
+          current[i * l + q] = -xi * sin + yi * cos;
+        }
+        for (let r = 0; r < l; r++) {
+          const xr = rotation[r * l + p];
+          const yr = rotation[r * l + q];
+          rotation[r * l + p] = xr * cos + yr * sin;
+          rotation[r * l + q] = -xr * sin + yr * cos;
         }
       }
-      const gradient = multiplyTransposeA(x, target, n, l, l); // l × l
-      const svd = thinSvd(gradient, l, l);
-      rotation = multiply(svd.u, transpose(svd.v, l, l), l, l, l);
-      const previous = d;
-      d = 0;
-      for (let k = 0; k < l; k++) d += svd.singularValues[k];
-      if (d < previous * (1 + tolerance)) {
-        converged = true;
-        break;
-      }
     }
-    if (iterations > maxIterations) iterations = maxIterations;
+    if (largest <= tolerance) converged = true;
   }
   const rotatedNormalised = multiply(x, rotation, n, l, l);
   const criterion = varimaxCriterion(rotatedNormalised, n, l);
