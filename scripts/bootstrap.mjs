@@ -144,7 +144,11 @@ async function ensurePostgres() {
   }
   const password = readFileSync(passwordFile, 'utf8').trim();
 
-  if (!(await portOpen(pgPort))) {
+  const running = asOwner(owner, join(bin, 'pg_ctl'), ['-D', pgDir, 'status']).status === 0;
+  if (!running && (await portOpen(pgPort))) {
+    fail(`port ${pgPort} is taken by another program; set LOADLINE_PG_PORT to a free port (or DATABASE_URL to use that server)`);
+  }
+  if (!running) {
     log(`starting PostgreSQL on 127.0.0.1:${pgPort}`);
     const options = `-c listen_addresses=127.0.0.1 -p ${pgPort} -k ${pgRunDir} -c fsync=on -c max_connections=200`;
     const start = asOwner(owner, join(bin, 'pg_ctl'), ['-D', pgDir, '-l', join(pgRunDir, 'server.log'), '-o', options, '-w', '-t', '60', 'start'], { stdio: 'inherit' });
