@@ -1,0 +1,231 @@
+/**
+ * Maximum-likelihood factor analysis, Σ = W Wᵀ + diag(Ψ), by EM (Rubin & Thayer 1982, "EM algorithms for ML
+ * factor analysis", Psychometrika 47) accelerated with SQUAREM (Varadhan & Roland 2008, "Simple and globally
+ * convergent methods for accelerating the convergence of any EM algorithm", Scand. J. Statist. 35, scheme S3 with
+ * the monotone safeguard), started from the closed-form PPCA fit.
+ *
+ * One EM step from (W, Ψ) needs S applied to the thin block B = Ψ⁻¹W once, and O(N L²) more:
+ *   M = I + Wᵀ Ψ⁻¹ W,  E[zzᵀ] = M⁻¹ + M⁻¹ Bᵀ S B M⁻¹,  C = S B M⁻¹,
+ *   W' = C E[zzᵀ]⁻¹,  Ψ'ᵢ = Sᵢᵢ − (W' Cᵀ)ᵢᵢ  (floored).
+ * The same pieces give the log-likelihood at (W, Ψ) for free (Woodbury, logLikelihood.ts).
+ * Heywood cases: Ψᵢ held at its floor (default 0.005 · Sᵢᵢ, the lower bound R's factanal uses on the correlation
+ * scale) are flagged per asset. Deterministic: fixed operation order, no randomness beyond a seeded start.
+ */
+import { cholesky, choleskyLogDet } from './linalg/cholesky';
+import { multiplyABt } from './linalg/dense';
+import { invertFromCholesky, LOG_2PI, woodburyPieces } from './logLikelihood';
+import { canonicalLoadings } from './orientation';
+import { fitPpca } from './ppca';
+import type { Scatter } from './scatter';
+import type { FitControl } from './types';
+
+export interface FactorAnalysisOptions {
+  /** Stop when a SQUAREM cycle raises the log-likelihood by less than tolerance · |ℓ| (default 1e-12)… */
+  tolerance?: number;
+  /** …and the largest relative change of any Ψᵢ in an EM step is below this (default 1e-7). */
+  parameterTolerance?: number;
+  /** Budget in EM-step evaluations (default 20000). */
+  maxEvaluations?: number;
+  /** Ψᵢ ≥ floorShare · Sᵢᵢ (default 0.005). */
+  floorShare?: number;
+  /** Warm start (e.g. a previous window's fit); defaults to PPCA. */
+  start?: { loadings: Float64Array; specificVariance: Float64Array };
+  /** Plain EM without acceleration (for validation). */
+  accelerate?: boolean;
+}
+
+export interface FactorAnalysisResult {
+  loadings: Float64Array; // N × L, canonical orientation
+  specificVariance: Float64Array;
+  logLikelihood: number;
+  /** Log-likelihood after each SQUAREM cycle (or EM step when not accelerated). */
+  trace: number[];
+  iterations: number; // SQUAREM cycles (or EM steps)
+  evaluations: number; // EM-step evaluations (each one application of S)
+  converged: boolean;
+  heywood: boolean[];
+}
+
+interface StepResult {
+  next: Float64Array;
+  logLikelihood: number;
+  maxRelativePsiChange: number;
+}
+
+export function fitFactorAnalysis(scatter: Scatter, l: number, options: FactorAnalysisOptions = {}, control: FitControl = {}): FactorAnalysisResult {
+  const n = scatter.size;
+  const t = scatter.observations;
+  if (!(Number.isInteger(l) && l >= 0 && l < n)) throw new Error(`number of factors must be an integer in [0, ${n - 1}], got ${l}`);
+  const floorShare = options.floorShare ?? 0.005;
+  const floor = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    if (!(scatter.diagonal[i] > 0)) throw new Error(`asset ${i + 1} has zero variance: factor analysis needs every asset to vary`);
+    floor[i] = floorShare * scatter.diagonal[i];
+  }
+  const heywoodOf = (psi: Float64Array) => Array.from(psi, (p, i) => p <= floor[i] * (1 + 1e-9));
+
+  if (l === 0) {
+    // Diagonal model: Ψ = diag(S) exactly.
+    const psi = Float64Array.from(scatter.diagonal);
+    let logDet = 0;
+    for (let i = 0; i < n; i++) logDet += Math.log(psi[i]);
+    const ll = -0.5 * t * (n * LOG_2PI + logDet + n);
+    return { loadings: new Float64Array(0), specificVariance: psi, logLikelihood: ll, trace: [ll], iterations: 0, evaluations: 0, converged: true, heywood: heywoodOf(psi) };
+  }
+
+  const size = n * l + n;
+  let theta: Float64Array = new Float64Array(size);
+  if (options.start) {
+    theta.set(options.start.loadings, 0);
+    theta.set(options.start.specificVariance, n * l);
+  } else {
+    const ppca = fitPpca(scatter, l);
+    theta.set(ppca.loadings, 0);
+    theta.fill(ppca.noiseVariance, n * l);
+  }
+  for (let i = 0; i < n; i++) theta[n * l + i] = Math.max(theta[n * l + i], floor[i]);
+
+  let evaluations = 0;
+  const emStep = (params: Float64Array): StepResult => {
+    // (params may be a subarray view: read only)
+    evaluations++;
+    const w = params.subarray(0, n * l);
+    const psi = params.subarray(n * l);
+    const { bt, m } = woodburyPieces(w, psi, n, l);
+    const sbt = scatter.apply(bt, l); // (S B)ᵀ, L × N
+    const q = multiplyABt(bt, l, n, sbt, l); // Bᵀ S B
+    const cholM = cholesky(m, l);
+    const minv = invertFromCholesky(cholM, l);
+    let logDet = choleskyLogDet(cholM, l);
+    let trPsiS = 0;
+    for (let i = 0; i < n; i++) {
+      logDet += Math.log(psi[i]);
+      trPsiS += scatter.diagonal[i] / psi[i];
+    }
+    let trCorr = 0;
+    for (let a = 0; a < l; a++) for (let b = 0; b < l; b++) trCorr += minv[a * l + b] * q[b * l + a];
+    const logLikelihood = -0.5 * t * (n * LOG_2PI + logDet + trPsiS - trCorr);
+    // E[zzᵀ] = M⁻¹ + M⁻¹ Q M⁻¹
+    const qm = new Float64Array(l * l);
+    for (let a = 0; a < l; a++) for (let b = 0; b < l; b++) {
+      let s = 0;
+      for (let c = 0; c < l; c++) s += q[a * l + c] * minv[c * l + b];
+      qm[a * l + b] = s;
+    }
+    const ezz = new Float64Array(l * l);
+    for (let a = 0; a < l; a++) for (let b = 0; b < l; b++) {
+      let s = minv[a * l + b];
+      for (let c = 0; c < l; c++) s += minv[a * l + c] * qm[c * l + b];
+      ezz[a * l + b] = s;
+    }
+    for (let a = 0; a < l; a++) for (let b = 0; b < a; b++) {
+      const v = 0.5 * (ezz[a * l + b] + ezz[b * l + a]);
+      ezz[a * l + b] = v;
+      ezz[b * l + a] = v;
+    }
+    const ezzInv = invertFromCholesky(cholesky(ezz, l), l);
+    // C = S B M⁻¹ (N × L);  W' = C E[zzᵀ]⁻¹;  Ψ' = diag(S) − rowsum(W' ∘ C)
+    const next = new Float64Array(size);
+    const c = new Float64Array(l);
+    let maxChange = 0;
+    for (let i = 0; i < n; i++) {
+      for (let k = 0; k < l; k++) {
+        let s = 0;
+        for (let a = 0; a < l; a++) s += sbt[a * n + i] * minv[a * l + k];
+        c[k] = s;
+      }
+      let explained = 0;
+      for (let k = 0; k < l; k++) {
+        let s = 0;
+        for (let a = 0; a < l; a++) s += c[a] * ezzInv[a * l + k];
+        next[i * l + k] = s;
+        explained += s * c[k];
+      }
+      const p = Math.max(scatter.diagonal[i] - explained, floor[i]);
+      next[n * l + i] = p;
+      maxChange = Math.max(maxChange, Math.abs(p - psi[i]) / psi[i]);
+    }
+    return { next, logLikelihood, maxRelativePsiChange: maxChange };
+  };
+
+  const tol = options.tolerance ?? 1e-12;
+  const ptol = options.parameterTolerance ?? 1e-7;
+  const maxEvaluations = options.maxEvaluations ?? 20000;
+  const accelerate = options.accelerate ?? true;
+  const trace: number[] = [];
+  let iterations = 0;
+  let converged = false;
+  let stepMax = 1;
+  let previous = -Infinity;
+  let lastLl = -Infinity;
+
+  const report = (ll: number) => {
+    control.onProgress?.({ stage: 'factor-analysis', iteration: iterations, logLikelihood: ll });
+  };
+
+  while (evaluations < maxEvaluations) {
+    const first = emStep(theta);
+    const ll0 = first.logLikelihood;
+    trace.push(ll0);
+    lastLl = ll0;
+    iterations++;
+    if (!Number.isFinite(ll0)) throw new Error('factor analysis diverged (non-finite log-likelihood)');
+    if (ll0 - previous <= tol * Math.abs(ll0) && first.maxRelativePsiChange < ptol) {
+      converged = true;
+      break;
+    }
+    previous = ll0;
+    if (iterations % 5 === 0) report(ll0);
+    if (!accelerate) {
+      theta = first.next;
+      continue;
+    }
+    const theta1 = first.next;
+    const second = emStep(theta1);
+    const theta2 = second.next;
+    // SQUAREM S3: r = θ1 − θ0, v = θ2 − 2θ1 + θ0, α = −‖r‖/‖v‖, θ' = θ0 − 2αr + α²v
+    let rr = 0;
+    let vv = 0;
+    for (let j = 0; j < size; j++) {
+      const r = theta1[j] - theta[j];
+      const v = theta2[j] - 2 * theta1[j] + theta[j];
+      rr += r * r;
+      vv += v * v;
+    }
+    let alpha = vv > 0 ? -Math.sqrt(rr / vv) : -1;
+    alpha = Math.max(-stepMax, Math.min(-1, alpha));
+    const proposal = new Float64Array(size);
+    for (let j = 0; j < size; j++) {
+      const r = theta1[j] - theta[j];
+      const v = theta2[j] - 2 * theta1[j] + theta[j];
+      proposal[j] = theta[j] - 2 * alpha * r + alpha * alpha * v;
+    }
+    for (let i = 0; i < n; i++) proposal[n * l + i] = Math.max(proposal[n * l + i], floor[i]);
+    let third: StepResult | null = null;
+    try {
+      third = emStep(proposal);
+    } catch {
+      third = null; // e.g. M not positive definite after a wild extrapolation
+    }
+    if (third && Number.isFinite(third.logLikelihood) && third.logLikelihood >= second.logLikelihood) {
+      theta = third.next; // stabilising EM step after the extrapolation
+      if (alpha === -stepMax) stepMax *= 4;
+    } else {
+      theta = theta2;
+      stepMax = Math.max(1, stepMax / 4);
+    }
+  }
+  report(lastLl);
+  const w = theta.subarray(0, n * l);
+  const psi = Float64Array.from(theta.subarray(n * l));
+  return {
+    loadings: canonicalLoadings(w, psi, n, l),
+    specificVariance: psi,
+    logLikelihood: lastLl,
+    trace,
+    iterations,
+    evaluations,
+    converged,
+    heywood: heywoodOf(psi),
+  };
+}
