@@ -1,0 +1,24 @@
+import type { ComponentType } from 'react';
+import type { RouteObject } from 'react-router-dom';
+
+/** Loads a page module on demand (its default export), so each feature ships in its own chunk. */
+const page = (load: () => Promise<{ default: ComponentType }>) => async () => ({ Component: (await load()).default });
+
+/** Pages anyone can open, outside the signed-in shell. */
+export const publicRoutes: RouteObject[] = [
+  { path: '/sign-in', lazy: page(() => import('../features/auth/SignInPage')) },
+  { path: '/forgot-password', lazy: page(() => import('../features/auth/ForgotPasswordPage')) },
+  { path: '/set-password', lazy: page(() => import('../features/auth/SetPasswordPage')) },
+];
+
+/**
+ * Pages inside the shell (signed-in only). Contributors add one line per page here and one nav entry in
+ * navigation.ts; the server enforces roles, the nav only hides what a role cannot use.
+ */
+export const shellRoutes: RouteObject[] = [
+  { path: '/home', lazy: page(() => import('../features/home/HomePage')) },
+  { path: '/users', lazy: page(() => import('../features/users/UsersPage')) },
+  { path: '/tokens', lazy: page(() => import('../features/tokens/TokensPage')) },
+  { path: '/audit', lazy: page(() => import('../features/audit/AuditPage')) },
+  { path: '/outbox', lazy: page(() => import('../features/outbox/OutboxPage')) },
+];

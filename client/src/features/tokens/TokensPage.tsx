@@ -1,0 +1,5 @@
+import { PageHeader } from '../../components/PageHeader';
+
+export default function Page() {
+  return <PageHeader title="API tokens" description="Loading this page's data from the server." />;
+}
