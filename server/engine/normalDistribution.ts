@@ -2,8 +2,8 @@
  * The standard normal distribution and the chi-square(1) tail, accurate to about 1e-15,
  * for parametric VaR/ES and the Kupiec test. Pure functions, no I/O.
  *
- * erfc: for 0 ≤ x < 2.5 the positive-term series erf(x) = (2/√π) e^{−x²} Σₙ 2ⁿ x^{2n+1} / (1·3·…·(2n+1))
- * (Abramowitz & Stegun 1964, eq. 7.1.6); for x ≥ 2.5 the continued fraction
+ * erfc: for 0 ≤ x < 1.2 the positive-term series erf(x) = (2/√π) e^{−x²} Σₙ 2ⁿ x^{2n+1} / (1·3·…·(2n+1))
+ * (Abramowitz & Stegun 1964, eq. 7.1.6); for x ≥ 1.2 (where 1 − erf would lose relative accuracy) the continued fraction
  * erfc(x) = (e^{−x²}/√π) · 1/(x + ½/(x + 1/(x + (3/2)/(x + …)))) (Abramowitz & Stegun 1964, eq. 7.1.14),
  * evaluated by the modified Lentz method (Lentz 1976; Thompson & Barnett 1986).
  */
@@ -54,7 +54,7 @@ function erfcContinuedFraction(x: number): number {
 export function erfc(x: number): number {
   if (Number.isNaN(x)) return NaN;
   if (x < 0) return 2 - erfc(-x);
-  if (x < 2.5) return 1 - erfSeries(x);
+  if (x < 1.2) return 1 - erfSeries(x);
   if (x > 27) return 0;
   return erfcContinuedFraction(x);
 }
@@ -63,7 +63,7 @@ export function erfc(x: number): number {
 export function erf(x: number): number {
   if (Number.isNaN(x)) return NaN;
   if (x < 0) return -erf(-x);
-  if (x < 2.5) return erfSeries(x);
+  if (x < 1.2) return erfSeries(x);
   return 1 - erfc(x);
 }
 
