@@ -1,0 +1,544 @@
+/**
+ * Portfolio risk under stored models: the figures of the risk page and of `GET /api/portfolios/:id/risk`.
+ *
+ * Speed: every model, and the sample and Ledoit–Wolf covariances computed on its window and universe, is loaded
+ * once per process and kept in memory keyed by the run id (stored results never change). A request then costs a few
+ * small queries (the portfolio's holdings, its benchmark's, the approved model ids) and arithmetic restricted to the
+ * held assets: O(k·L) for factor models and O(k²) for dense ones, k = number of holdings (the other weights are zero,
+ * so restricting the model to the held assets gives exactly the same figures).
+ */
+import type { Knex } from 'knex';
+import { Model } from 'objection';
+import type { AuthenticatedUser } from '../auth/access';
+import { conflict, notFound, unprocessable } from '../http/errors';
+import type { CovarianceModel, DenseCovarianceModel, FactorModel, MeanHandling, ReturnsPanel, Weighting } from '../engine/types';
+import { EXPOSURE_CAVEAT, RISK_ASSUMPTIONS, parametricTailRisk, portfolioRisk, varianceBreakdown } from '../engine/risk';
+import { sampleCovariance } from '../engine/sampleCovariance';
+import { ledoitWolf } from '../engine/ledoitWolf';
+import { loadModel, panelSha256, type StoredModel } from './modelStore';
+import { holdingsOf, readablePortfolio } from './portfoliosService';
+import { simulatePortfolio } from './portfolioSimulation';
+import type { Estimator } from '../../shared/schemas/modelRuns';
+import type { PortfolioRisk, VolatilityRow } from '../../shared/schemas/portfolios';
+
+type Actor = Pick<AuthenticatedUser, 'id' | 'email' | 'role'>;
+
+const CONFIDENCE_LEVELS = [0.95, 0.99] as const;
+/** q = N/T from which the sample covariance is called unreliable on the page (common practice: q well below 1). */
+export const HIGH_CONCENTRATION_RATIO = 0.5;
+
+// ---------------------------------------------------------------------------------------------------------------
+// In-memory model cache
+
+interface Comparisons {
+  sample: DenseCovarianceModel;
+  ledoitWolf: DenseCovarianceModel;
+  shrinkage: number;
+  pairwise: boolean;
+  repairedToPsd: boolean;
+  /** The stored returns still hash to the fingerprint the model was fitted on. */
+  dataMatches: boolean;
+  seconds: number;
+}
+
+interface ModelContext {
+  stored: StoredModel;
+  byAssetId: Map<number, number>;
+  bySymbol: Map<string, number>;
+  weighting: Weighting;
+  mean: MeanHandling;
+  dataSha256: string;
+  comparisons: Promise<Comparisons> | null;
+}
+
+const MAX_CACHED_MODELS = 8;
+const contexts = new Map<number, Promise<ModelContext>>();
+
+function knex(): Knex {
+  return Model.knex() as Knex;
+}
+
+/** The model of a run with everything the risk page needs, loaded once per process. */
+export function modelContext(runId: number): Promise<ModelContext> {
+  const cached = contexts.get(runId);
+  if (cached) {
+    contexts.delete(runId); // least recently used goes first when full
+    contexts.set(runId, cached);
+    return cached;
+  }
+  const loading = (async () => {
+    const stored = await loadModel(runId);
+    const run = await knex()('model_runs as r').join('model_results as m', 'm.run_id', 'r.id').where('r.id', runId).select('r.parameters', 'm.data_sha256').first();
+    const parameters = (run?.parameters ?? {}) as { weighting?: Weighting; mean?: MeanHandling };
+    return {
+      stored,
+      byAssetId: new Map(stored.assetIds.map((id, i) => [id, i])),
+      bySymbol: new Map(stored.symbols.map((s, i) => [s.toUpperCase(), i])),
+      weighting: parameters.weighting ?? { kind: 'equal' },
+      mean: parameters.mean ?? 'sample',
+      dataSha256: run?.data_sha256 ?? '',
+      comparisons: null,
+    } satisfies ModelContext;
+  })();
+  contexts.set(runId, loading);
+  loading.catch(() => contexts.delete(runId));
+  while (contexts.size > MAX_CACHED_MODELS) contexts.delete(contexts.keys().next().value!);
+  return loading;
+}
+
+/** Drops cached models (tests; a re-import does not change stored models, whose figures stay valid). */
+export function clearRiskCache(): void {
+  contexts.clear();
+}
+
+/** The stored returns of the model's window and universe, as the engine's panel (NaN where missing). */
+export async function loadModelPanel(stored: StoredModel): Promise<ReturnsPanel> {
+  const n = stored.assetIds.length;
+  const t = stored.dates.length;
+  const values = new Float64Array(t * n).fill(NaN);
+  const column = new Map(stored.assetIds.map((id, i) => [id, i]));
+  // Packed per asset as (date index, value) pairs, as server/services/modelPanel.ts reads a run's panel.
+  const result = await knex().raw(
+    `WITH d AS (SELECT date, (row_number() OVER (ORDER BY date) - 1)::int AS k FROM unnest(?::date[]) AS date)
+     SELECT o.asset_id, string_agg(int4send(d.k) || float8send(o.value), ''::bytea) AS packed
+     FROM return_observations o JOIN d ON d.date = o.date
+     WHERE o.asset_id = ANY(?) AND o.date BETWEEN ? AND ?
+     GROUP BY o.asset_id`,
+    [stored.dates, stored.assetIds, stored.dates[0], stored.dates[t - 1]],
+  );
+  for (const row of result.rows as { asset_id: number; packed: Buffer }[]) {
+    const i = column.get(row.asset_id)!;
+    const buf = row.packed;
+    for (let off = 0; off + 12 <= buf.length; off += 12) values[buf.readInt32BE(off) * n + i] = buf.readDoubleBE(off + 4);
+  }
+  return { values, observations: t, assets: n };
+}
+
+/** Sample and Ledoit–Wolf covariances on the SAME window, universe, weighting and mean handling as the model. */
+function comparisonsFor(context: ModelContext): Promise<Comparisons> {
+  if (!context.comparisons) {
+    context.comparisons = (async () => {
+      const started = performance.now();
+      const panel = await loadModelPanel(context.stored);
+      const options = { weighting: context.weighting, mean: context.mean };
+      const sample = sampleCovariance(panel, options);
+      const shrunk = ledoitWolf(panel, options);
+      const n = panel.assets;
+      return {
+        sample: { kind: 'dense', method: 'sample', assets: n, mean: sample.mean, covariance: sample.covariance },
+        ledoitWolf: { kind: 'dense', method: 'ledoit-wolf', assets: n, mean: shrunk.mean, covariance: shrunk.covariance },
+        shrinkage: shrunk.shrinkage,
+        pairwise: sample.pairwise,
+        repairedToPsd: sample.repairedToPsd || shrunk.repairedToPsd,
+        dataMatches: panelSha256(panel.values) === context.dataSha256,
+        seconds: (performance.now() - started) / 1000,
+      } satisfies Comparisons;
+    })();
+    context.comparisons.catch(() => {
+      context.comparisons = null;
+    });
+  }
+  return context.comparisons;
+}
+
+/** Loads (and caches) a run's model and its comparison covariances, e.g. right after approval or at start-up. */
+export async function warmModel(runId: number): Promise<void> {
+  await comparisonsFor(await modelContext(runId));
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Restricting a model to the held assets
+
+interface Positions {
+  /** Model indices of the covered holdings, in holding order. */
+  index: number[];
+  weights: number[];
+  symbols: string[];
+  names: (string | null)[];
+  uncovered: { symbol: string; weight: number }[];
+}
+
+function restrict(model: CovarianceModel, index: readonly number[]): CovarianceModel {
+  const k = index.length;
+  const mean = new Float64Array(k);
+  for (let j = 0; j < k; j++) mean[j] = model.mean[index[j]];
+  if (model.kind === 'factor') {
+    const l = model.factors;
+    const loadings = new Float64Array(k * l);
+    const specificVariance = new Float64Array(k);
+    for (let j = 0; j < k; j++) {
+      const i = index[j];
+      for (let f = 0; f < l; f++) loadings[j * l + f] = model.loadings[i * l + f];
+      specificVariance[j] = model.specificVariance[i];
+    }
+    return { kind: 'factor', method: model.method, assets: k, factors: l, mean, loadings, specificVariance };
+  }
+  const n = model.assets;
+  const covariance = new Float64Array(k * k);
+  for (let a = 0; a < k; a++) {
+    const row = index[a] * n;
+    for (let b = 0; b < k; b++) covariance[a * k + b] = model.covariance[row + index[b]];
+  }
+  return { kind: 'dense', method: model.method, assets: k, mean, covariance };
+}
+
+interface HeldWeights {
+  assetId: number | null;
+  symbol: string;
+  name: string | null;
+  weight: number;
+}
+
+function positionsIn(context: ModelContext, holdings: readonly HeldWeights[]): Positions {
+  const out: Positions = { index: [], weights: [], symbols: [], names: [], uncovered: [] };
+  for (const h of holdings) {
+    const i = h.assetId !== null ? context.byAssetId.get(h.assetId) : context.bySymbol.get(h.symbol.toUpperCase());
+    if (i === undefined) out.uncovered.push({ symbol: h.symbol, weight: h.weight });
+    else {
+      out.index.push(i);
+      out.weights.push(h.weight);
+      out.symbols.push(h.symbol);
+      out.names.push(h.name);
+    }
+  }
+  return out;
+}
+
+/** Per-period volatility of the covered part of a portfolio under one model: O(k·L) or O(k²). */
+function volatilityUnder(model: CovarianceModel, positions: Positions): number {
+  if (!positions.index.length) return 0;
+  return varianceBreakdown(restrict(model, positions.index), positions.weights).volatility;
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// The risk answer
+
+export interface RiskRequest {
+  model?: number;
+  horizon: number;
+  draws: number;
+  seed: number;
+}
+
+interface RunRow {
+  id: number;
+  label: string;
+  estimator: Estimator;
+  lifecycle: string;
+  approved_at: Date | null;
+}
+
+/** The chosen run (or the latest approved one) and the latest approved run of each estimator, in one query. */
+async function runsFor(chosen: number | undefined): Promise<{ primary: RunRow; latestByEstimator: Map<Estimator, RunRow> }> {
+  const rows = (await knex()('model_runs')
+    .where((w) => {
+      w.where({ lifecycle: 'approved', status: 'succeeded' });
+      if (chosen !== undefined) w.orWhere({ id: chosen });
+    })
+    .orderBy([{ column: 'approved_at', order: 'desc', nulls: 'last' }, { column: 'id', order: 'desc' }])
+    .select('id', 'label', 'estimator', 'lifecycle', 'approved_at', 'status')) as (RunRow & { status: string })[];
+  const latestByEstimator = new Map<Estimator, RunRow>();
+  for (const r of rows) if (r.lifecycle === 'approved' && r.status === 'succeeded' && !latestByEstimator.has(r.estimator)) latestByEstimator.set(r.estimator, r);
+  let primary: (RunRow & { status: string }) | undefined;
+  if (chosen !== undefined) {
+    primary = rows.find((r) => r.id === chosen);
+    if (!primary) throw notFound(`Model run ${chosen} does not exist`);
+    if (primary.status !== 'succeeded') throw conflict(`Model run ${primary.label} has no fitted model (status: ${primary.status})`);
+  } else {
+    primary = rows.find((r) => r.lifecycle === 'approved' && r.status === 'succeeded');
+    if (!primary) throw conflict('No model is approved yet: an analyst fits a model and a second analyst approves it before portfolio risk can be shown');
+  }
+  return { primary, latestByEstimator };
+}
+
+const PERIOD_NAMES: Record<number, string> = { 252: 'trading days', 52: 'weeks', 12: 'months' };
+
+function round(x: number, digits = 12): number {
+  return Number.isFinite(x) ? Number(x.toPrecision(digits)) : x;
+}
+
+async function computeRisk(
+  portfolio: { id: number; name: string },
+  holdings: HeldWeights[],
+  benchmark: { id: number; name: string; holdings: HeldWeights[] } | null,
+  request: RiskRequest,
+  whatIf: boolean,
+): Promise<PortfolioRisk> {
+  const started = performance.now();
+  const { primary, latestByEstimator } = await runsFor(request.model);
+  const context = await modelContext(primary.id);
+  const { stored } = context;
+  const header = stored.header;
+  const model = stored.model;
+  const ppy = header.periodsPerYear;
+  const rootYear = Math.sqrt(ppy);
+
+  const positions = positionsIn(context, holdings);
+  if (!positions.index.length) {
+    throw unprocessable(`None of the portfolio's holdings is in model ${header.label}'s universe`, [
+      { path: 'holdings', message: `the model covers ${header.assets} assets; none of the ${holdings.length} holdings is among them` },
+    ]);
+  }
+
+  // The union of portfolio and benchmark assets: the engine computes risk, active risk and contributions on it.
+  let benchmarkPositions: Positions | null = null;
+  const unionIndex = [...positions.index];
+  const slot = new Map(unionIndex.map((i, j) => [i, j]));
+  if (benchmark) {
+    benchmarkPositions = positionsIn(context, benchmark.holdings);
+    for (const i of benchmarkPositions.index) if (!slot.has(i)) slot.set(i, unionIndex.push(i) - 1);
+  }
+  const sub = restrict(model, unionIndex);
+  const w = new Float64Array(unionIndex.length);
+  positions.index.forEach((i, j) => (w[slot.get(i)!] += positions.weights[j]));
+  let bw: Float64Array | undefined;
+  if (benchmarkPositions) {
+    bw = new Float64Array(unionIndex.length);
+    benchmarkPositions.index.forEach((i, j) => (bw![slot.get(i)!] += benchmarkPositions!.weights[j]));
+  }
+  const risk = portfolioRisk(sub, w, { periodsPerYear: ppy, horizon: request.horizon, confidenceLevels: CONFIDENCE_LEVELS, benchmark: bw });
+
+  // Side by side: FA and PPCA (this model when of that kind, else the latest approved one), sample and LW on this window.
+  const comparisons = await comparisonsFor(context);
+  const sampleVol = volatilityUnder(comparisons.sample, positions);
+  const coveredWeight = positions.weights.reduce((s, x) => s + x, 0);
+  const volatilities: VolatilityRow[] = [];
+  for (const estimator of ['fa', 'ppca'] as const) {
+    if (model.kind === 'factor' && model.method === estimator) {
+      volatilities.push({ estimator, source: `${header.label} (this page's model)`, runId: header.runId, volatility: risk.volatility, annualisedVolatility: risk.annualisedVolatility, ratioToSample: null, sameWindow: true, coveredWeight, note: null });
+      continue;
+    }
+    const other = latestByEstimator.get(estimator);
+    if (!other) {
+      volatilities.push({ estimator, source: 'no approved model of this kind', runId: null, volatility: null, annualisedVolatility: null, ratioToSample: null, sameWindow: false, coveredWeight: null, note: `No ${estimator === 'fa' ? 'factor-analysis' : 'probabilistic PCA'} model is approved yet.` });
+      continue;
+    }
+    const otherContext = await modelContext(other.id);
+    const otherPositions = positionsIn(otherContext, holdings);
+    const vol = volatilityUnder(otherContext.stored.model, otherPositions);
+    const h = otherContext.stored.header;
+    const sameWindow = h.firstDate === header.firstDate && h.lastDate === header.lastDate && h.assets === header.assets && h.observations === header.observations;
+    const covered = otherPositions.weights.reduce((s, x) => s + x, 0);
+    volatilities.push({
+      estimator,
+      source: `${h.label}, latest approved (${h.firstDate} to ${h.lastDate}, ${h.assets} assets)`,
+      runId: h.runId,
+      volatility: vol,
+      annualisedVolatility: vol * Math.sqrt(h.periodsPerYear),
+      ratioToSample: null,
+      sameWindow,
+      coveredWeight: covered,
+      note: sameWindow ? null : 'Fitted on a different window or universe than the comparison figures: read the ratio with care.',
+    });
+  }
+  const window = `${header.firstDate} to ${header.lastDate}, ${header.assets} assets, ${header.observations} observations`;
+  const dataNote = comparisons.dataMatches ? '' : ' The stored returns have changed since the model was fitted (a later import): these figures use the returns stored now.';
+  const pairwiseNote = comparisons.pairwise ? ' Missing values: pairwise-complete estimate' + (comparisons.repairedToPsd ? ', repaired to the nearest positive semidefinite matrix.' : '.') : '';
+  volatilities.push({
+    estimator: 'sample',
+    source: `computed on ${header.label}'s window (${window})`,
+    runId: null,
+    volatility: sampleVol,
+    annualisedVolatility: sampleVol * rootYear,
+    ratioToSample: 1,
+    sameWindow: true,
+    coveredWeight,
+    note: (pairwiseNote + dataNote).trim() || null,
+  });
+  const lwVol = volatilityUnder(comparisons.ledoitWolf, positions);
+  volatilities.push({
+    estimator: 'ledoit-wolf',
+    source: `computed on ${header.label}'s window (shrinkage δ = ${comparisons.shrinkage.toFixed(4)})`,
+    runId: null,
+    volatility: lwVol,
+    annualisedVolatility: lwVol * rootYear,
+    ratioToSample: null,
+    sameWindow: true,
+    coveredWeight,
+    note: (pairwiseNote + dataNote).trim() || null,
+  });
+  if (model.kind === 'dense') {
+    // A dense model of the page: it is itself the sample or LW row; say so.
+    const row = volatilities.find((v) => v.estimator === model.method);
+    if (row) row.source = `${header.label} (this page's model); ${row.source}`;
+  }
+  for (const row of volatilities) row.ratioToSample = row.volatility !== null && sampleVol > 0 ? row.volatility / sampleVol : null;
+
+  const q = header.assets / header.observations;
+  const sampleNote =
+    q >= 1
+      ? `q = N/T = ${q.toFixed(2)}: there are more assets than observations, so the sample covariance is singular. It understates the risk of optimised portfolios and is unreliable here; prefer the factor-model and shrinkage figures.`
+      : q >= HIGH_CONCENTRATION_RATIO
+        ? `q = N/T = ${q.toFixed(2)} is high: the sample covariance is noisy at this ratio of assets to observations, understates the risk of optimised portfolios and is unreliable here.`
+        : null;
+
+  // Monte Carlo from the generative model, in the portfolio's own dimension (see portfolioSimulation.ts).
+  const exposures = risk.exposure ? risk.exposure.exposures : new Float64Array(0);
+  const residualVariance = risk.exposure ? (risk.specificVariance ?? 0) : risk.variance;
+  const simulation = simulatePortfolio({
+    exposures,
+    residualVariance,
+    meanReturn: risk.meanReturn,
+    includeMean: false,
+    draws: request.draws,
+    seed: request.seed,
+    horizon: request.horizon,
+    confidenceLevels: CONFIDENCE_LEVELS,
+  });
+
+  // Factor return history: (Wᵀw)ᵀ z_t over the window's dates, z_t the stored factor scores.
+  let factorReturnHistory: PortfolioRisk['factorReturnHistory'] = null;
+  if (model.kind === 'factor' && stored.factorScores && risk.exposure) {
+    const l = model.factors;
+    const scores = stored.factorScores;
+    factorReturnHistory = stored.dates.map((date, t) => {
+      let s = 0;
+      for (let k = 0; k < l; k++) s += exposures[k] * scores[t * l + k];
+      return { date, value: round(s) };
+    });
+  }
+
+  const contributors = positions.index
+    .map((i, j) => {
+      const at = slot.get(i)!;
+      return {
+        symbol: positions.symbols[j],
+        assetName: positions.names[j],
+        weight: positions.weights[j],
+        marginal: risk.marginalContributions[at] * rootYear,
+        contribution: risk.contributions[at] * rootYear,
+        percent: risk.percentContributions[at],
+      };
+    })
+    .sort((a, b) => Math.abs(b.percent) - Math.abs(a.percent));
+  // Benchmark-only assets have zero weight in the portfolio, so they add nothing; keep the sum check exact.
+
+  let trackingError: PortfolioRisk['trackingError'] = null;
+  if (benchmark && risk.active && benchmarkPositions) {
+    trackingError = {
+      benchmark: { id: benchmark.id, name: benchmark.name },
+      volatility: risk.active.volatility,
+      annualisedVolatility: risk.active.annualisedVolatility,
+      uncoveredBenchmarkWeight: benchmarkPositions.uncovered.reduce((s, x) => s + x.weight, 0),
+    };
+  }
+
+  const answer: PortfolioRisk = {
+    portfolio,
+    whatIf,
+    model: {
+      runId: header.runId,
+      label: header.label,
+      method: header.estimator,
+      lifecycle: primary.lifecycle,
+      approvedAt: primary.approved_at ? new Date(primary.approved_at).toISOString() : null,
+      windowStart: header.firstDate,
+      windowEnd: header.lastDate,
+      observations: header.observations,
+      assets: header.assets,
+      factors: header.factors,
+      periodsPerYear: ppy,
+    },
+    weightSum: holdings.reduce((s, h) => s + h.weight, 0),
+    holdings: holdings.length,
+    uncovered: positions.uncovered,
+    coveredWeight,
+    volatilities,
+    concentrationRatio: q,
+    sampleNote,
+    split:
+      risk.factorVariance !== null && risk.specificVariance !== null
+        ? {
+            factorVariance: risk.factorVariance,
+            specificVariance: risk.specificVariance,
+            factorShare: risk.variance > 0 ? risk.factorVariance / risk.variance : 0,
+            specificShare: risk.variance > 0 ? risk.specificVariance / risk.variance : 0,
+          }
+        : null,
+    annualisedVolatility: risk.annualisedVolatility,
+    volatility: risk.volatility,
+    contributors,
+    trackingError,
+    tailRisk: {
+      horizon: request.horizon,
+      periodsLabel: PERIOD_NAMES[ppy] ?? 'periods',
+      parametric: CONFIDENCE_LEVELS.map((c) => {
+        const t = parametricTailRisk(risk.volatility, 0, request.horizon, c);
+        return { confidence: c, valueAtRisk: t.valueAtRisk, expectedShortfall: t.expectedShortfall };
+      }),
+      monteCarlo: { draws: simulation.draws, seed: simulation.seed, simulatedVolatility: simulation.simulatedVolatility, levels: simulation.levels },
+    },
+    exposure: risk.exposure
+      ? { factorVarianceShare: risk.exposure.factorVarianceShare, exposureNorm: risk.exposure.exposureNorm, exposures: Array.from(risk.exposure.exposures), caveat: EXPOSURE_CAVEAT }
+      : null,
+    factorReturnHistory,
+    assumptions: [
+      ...RISK_ASSUMPTIONS,
+      `Estimated on ${window} (${header.label}, ${primary.lifecycle}); VaR and expected shortfall are losses as a fraction of portfolio value over ${request.horizon} ${PERIOD_NAMES[ppy] ?? 'periods'}, zero mean.`,
+      ...(positions.uncovered.length ? [`${positions.uncovered.length} holding(s) outside the model's universe are left out of every figure (weight ${positions.uncovered.reduce((s, x) => s + x.weight, 0).toFixed(4)}).`] : []),
+    ],
+    elapsedMs: 0,
+  };
+  answer.elapsedMs = performance.now() - started;
+  return answer;
+}
+
+async function benchmarkOf(user: Actor, benchmarkId: number | null): Promise<{ id: number; name: string; holdings: HeldWeights[] } | null> {
+  if (!benchmarkId) return null;
+  try {
+    const row = await readablePortfolio(user, benchmarkId);
+    const holdings = await holdingsOf(benchmarkId);
+    if (!holdings.length) return null;
+    return { id: row.id, name: row.name, holdings: holdings.map((h) => ({ assetId: h.asset_id, symbol: h.symbol, name: h.asset_name, weight: h.weight })) };
+  } catch {
+    return null; // a benchmark the caller cannot read gives no tracking error
+  }
+}
+
+/** Risk of a saved portfolio. */
+export async function portfolioRiskReport(user: Actor, portfolioId: number, request: RiskRequest): Promise<PortfolioRisk> {
+  const row = await readablePortfolio(user, portfolioId);
+  const [holdings, benchmark] = await Promise.all([holdingsOf(portfolioId), benchmarkOf(user, row.benchmark_portfolio_id)]);
+  if (!holdings.length) throw unprocessable(`Portfolio '${row.name}' has no holdings yet`, [{ path: 'holdings', message: 'add holdings before asking for risk' }]);
+  return computeRisk(
+    { id: row.id, name: row.name },
+    holdings.map((h) => ({ assetId: h.asset_id, symbol: h.symbol, name: h.asset_name, weight: h.weight })),
+    benchmark,
+    request,
+    false,
+  );
+}
+
+/** Risk of edited weights for a saved portfolio (nothing is stored). Weights are used as given. */
+export async function whatIfRisk(user: Actor, portfolioId: number, weights: { symbol: string; weight: number }[], request: RiskRequest): Promise<PortfolioRisk> {
+  const row = await readablePortfolio(user, portfolioId);
+  const benchmark = await benchmarkOf(user, row.benchmark_portfolio_id);
+  // Symbols: unknown ones and duplicates name their row; the asset table is asked only for symbols outside the model.
+  const { primary } = await runsFor(request.model);
+  const context = await modelContext(primary.id);
+  const issues: { path: string; message: string }[] = [];
+  const seen = new Map<string, number>();
+  const symbols = weights.map((h) => h.symbol.trim().toUpperCase());
+  const outside = symbols.filter((s) => s && !context.bySymbol.has(s));
+  const known = new Map<string, { id: number; name: string | null }>();
+  if (outside.length) {
+    for (const a of (await knex()('assets').whereIn('symbol', outside).select('id', 'symbol', 'name')) as { id: number; symbol: string; name: string }[]) known.set(a.symbol.toUpperCase(), a);
+  }
+  const held: HeldWeights[] = [];
+  weights.forEach((h, i) => {
+    const symbol = symbols[i];
+    if (!symbol) issues.push({ path: `holdings.${i}.symbol`, message: `row ${i + 1}: the symbol is empty` });
+    else if (seen.has(symbol)) issues.push({ path: `holdings.${i}.symbol`, message: `row ${i + 1}: '${symbol}' duplicates row ${seen.get(symbol)! + 1}` });
+    else if (!context.bySymbol.has(symbol) && !known.has(symbol)) issues.push({ path: `holdings.${i}.symbol`, message: `row ${i + 1}: unknown symbol '${symbol}'` });
+    seen.set(symbol, seen.get(symbol) ?? i);
+    const index = context.bySymbol.get(symbol);
+    held.push({ assetId: index !== undefined ? context.stored.assetIds[index] : (known.get(symbol)?.id ?? null), symbol, name: known.get(symbol)?.name ?? null, weight: h.weight });
+  });
+  if (issues.length) throw unprocessable(`The what-if weights are not valid (${issues.length} problem${issues.length === 1 ? '' : 's'})`, issues);
+  // Asset names for the contributors grid come from the saved holdings where known.
+  const names = new Map((await holdingsOf(portfolioId)).map((h) => [h.symbol.toUpperCase(), h.asset_name]));
+  for (const h of held) if (h.name === null) h.name = names.get(h.symbol) ?? null;
+  return computeRisk({ id: row.id, name: row.name }, held, benchmark, { ...request, model: primary.id }, true);
+}
+
+export type { FactorModel };
