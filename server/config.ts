@@ -19,6 +19,18 @@ export interface Config {
   /** Behind a proxy, Express must trust it to see client IPs (rate limits, audit). */
   trustProxy: boolean;
   corsOrigins: string[];
+  /** How long an invitation link stays valid. */
+  invitationTtlHours: number;
+  /** How long a password-reset link stays valid. */
+  passwordResetTtlMinutes: number;
+  /** Rate limits (per window) on sign-in failures and password-reset requests, by client IP and by e-mail. */
+  rateLimits: {
+    windowSeconds: number;
+    signInFailuresPerIp: number;
+    signInFailuresPerAccount: number;
+    passwordResetsPerIp: number;
+    passwordResetsPerAccount: number;
+  };
 }
 
 const repoRoot = resolve(import.meta.dirname, '..');
@@ -51,6 +63,15 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     uploadLimitBytes: Number(env.UPLOAD_LIMIT_MB ?? 200) * 1024 * 1024,
     trustProxy: env.TRUST_PROXY === 'true',
     corsOrigins: (env.CORS_ORIGINS ?? '').split(',').map((s) => s.trim()).filter(Boolean),
+    invitationTtlHours: Number(env.INVITATION_TTL_HOURS ?? 72),
+    passwordResetTtlMinutes: Number(env.PASSWORD_RESET_TTL_MINUTES ?? 60),
+    rateLimits: {
+      windowSeconds: Number(env.RATE_LIMIT_WINDOW_SECONDS ?? 15 * 60),
+      signInFailuresPerIp: Number(env.SIGN_IN_MAX_FAILURES_PER_IP ?? 20),
+      signInFailuresPerAccount: Number(env.SIGN_IN_MAX_FAILURES_PER_ACCOUNT ?? 5),
+      passwordResetsPerIp: Number(env.PASSWORD_RESET_MAX_PER_IP ?? 10),
+      passwordResetsPerAccount: Number(env.PASSWORD_RESET_MAX_PER_ACCOUNT ?? 3),
+    },
   };
 }
 

@@ -34,13 +34,15 @@ export function configurePassport(jwtSecret: string): void {
           return token && !token.startsWith(API_TOKEN_PREFIX) ? token : null;
         },
       },
-      (payload: { sub: string; iat: number }, done: (err: unknown, user?: AuthenticatedUser | false) => void) => {
+      (payload: { sub: string; iat: number; iat_ms?: number }, done: (err: unknown, user?: AuthenticatedUser | false) => void) => {
         User.query()
           .findById(Number(payload.sub))
           .then((user) => {
             if (!user || !user.active) return done(null, false);
-            // iat is in seconds; a session issued before sessions_valid_after is dead.
-            if (payload.iat * 1000 < new Date(user.sessions_valid_after).getTime() - 999) return done(null, false);
+            // A session issued before sessions_valid_after (deactivation, password change) is dead.
+            // iat_ms is exact; tokens without it fall back to iat (seconds) with a second's grace.
+            const issuedAt = typeof payload.iat_ms === 'number' ? payload.iat_ms : payload.iat * 1000 + 999;
+            if (issuedAt < new Date(user.sessions_valid_after).getTime()) return done(null, false);
             done(null, { id: user.id, email: user.email, name: user.name, role: user.role, via: 'session' });
           })
           .catch(done);

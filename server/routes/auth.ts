@@ -7,6 +7,16 @@ import { issueSessionToken, verifyCredentials, findUserByEmail } from '../servic
 import { recordAudit, requestIp } from '../services/auditService';
 import { SESSION_COOKIE } from '../auth/passport';
 import { User } from '../models/User';
+import { signInLimiters, passwordResetLimiters } from '../auth/rateLimits';
+import {
+  ChangePasswordBodySchema,
+  PasswordLinkBodySchema,
+  PasswordLinkInfoSchema,
+  PasswordResetRequestBodySchema,
+  SetPasswordBodySchema,
+  SetPasswordResponseSchema,
+} from '../../shared/schemas/users';
+import { changeOwnPassword, inspectPasswordLink, requestPasswordReset, setPasswordWithLink } from '../services/usersService';
 
 export function authRoutes(config: Config) {
   const api = apiRouter('/auth', 'Sign-in');
@@ -25,6 +35,7 @@ export function authRoutes(config: Config) {
     description: 'Answers a session token (also set as an httpOnly cookie). Use it as `Authorization: Bearer <token>` from scripts.',
     body: SignInBodySchema,
     response: SignInResponseSchema,
+    before: signInLimiters(config),
     handler: async ({ body, req, res }) => {
       const user = await verifyCredentials(body.email, body.password);
       if (!user) {
@@ -46,10 +57,69 @@ export function authRoutes(config: Config) {
     access: 'public',
     summary: 'Sign out (clears the session cookie)',
     response: OkSchema,
-    handler: ({ res }) => {
+    handler: async ({ req, res }) => {
       res.clearCookie(SESSION_COOKIE, cookieOptions);
+      if (req.user) await recordAudit({ actor: req.user, action: 'auth.sign-out', objectType: 'user', objectId: req.user.id, ip: requestIp(req) });
       return { ok: true as const };
     },
+  });
+
+  api.route({
+    method: 'post',
+    path: '/password',
+    access: 'signed-in',
+    summary: 'Change your own password',
+    description: 'Ends every other session of yours and answers a fresh session token (also set as the cookie). API tokens stay valid: revoke them separately.',
+    body: ChangePasswordBodySchema,
+    response: SignInResponseSchema,
+    handler: async ({ body, user, req, res }) => {
+      const updated = await changeOwnPassword(user, body.currentPassword, body.newPassword, requestIp(req));
+      const token = issueSessionToken(updated, config.jwtSecret, config.sessionTtlSeconds);
+      res.cookie(SESSION_COOKIE, token, { ...cookieOptions, maxAge: config.sessionTtlSeconds * 1000 });
+      return { token, user: updated.toPublic() };
+    },
+  });
+
+  api.route({
+    method: 'post',
+    path: '/password-reset',
+    access: 'public',
+    summary: 'Ask for a password-reset link by e-mail',
+    description: 'Always answers 202, whether or not the address belongs to a user; an active user receives a one-time link. Rate-limited per IP and per address.',
+    body: PasswordResetRequestBodySchema,
+    response: OkSchema,
+    status: 202,
+    before: passwordResetLimiters(config),
+    handler: ({ body, req }) => {
+      // Done after answering, so the answer's timing does not tell whether the address exists either.
+      const ip = requestIp(req);
+      setImmediate(() => {
+        requestPasswordReset(config, body.email, ip).catch((error: unknown) => console.error('[api] password reset mail failed:', (error as Error).message));
+      });
+      return { ok: true as const };
+    },
+  });
+
+  api.route({
+    method: 'post',
+    path: '/password-link',
+    access: 'public',
+    summary: 'Check a one-time invitation or reset link',
+    description: 'Answers whom the link is for and until when it works, or 400 when it is used, replaced or expired.',
+    body: PasswordLinkBodySchema,
+    response: PasswordLinkInfoSchema,
+    handler: ({ body }) => inspectPasswordLink(body.token),
+  });
+
+  api.route({
+    method: 'post',
+    path: '/set-password',
+    access: 'public',
+    summary: 'Set a password with a one-time invitation or reset link',
+    description: 'The link stops working; every earlier session of the user ends. Sign in afterwards.',
+    body: SetPasswordBodySchema,
+    response: SetPasswordResponseSchema,
+    handler: ({ body, req }) => setPasswordWithLink(body.token, body.password, requestIp(req)),
   });
 
   api.route({

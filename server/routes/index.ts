@@ -1,8 +1,25 @@
 import type { Config } from '../config';
 import { authRoutes } from './auth';
 import { openApiRoutes } from './openapi';
+import { importRoutes } from './imports';
+import { assetRoutes } from './assets';
+import { dataQualityRoutes } from './dataQuality';
+import { usersRoutes } from './users';
+import { tokensRoutes } from './tokens';
+import { auditRoutes } from './audit';
+import { outboxRoutes } from './outbox';
 
 /** Every feature's API router, in one list: add a line here when a feature adds routes. */
 export function apiRouters(config: Config) {
-  return [authRoutes(config), openApiRoutes()];
+  return [
+    authRoutes(config),
+    usersRoutes(config),
+    tokensRoutes(),
+    auditRoutes(),
+    outboxRoutes(),
+    importRoutes(config),
+    assetRoutes(config),
+    dataQualityRoutes(),
+    openApiRoutes(),
+  ];
 }

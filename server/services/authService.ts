@@ -22,8 +22,14 @@ export async function verifyCredentials(email: string, password: string): Promis
   return user;
 }
 
+/** A signed session; `iat_ms` lets sessions_valid_after cut off sessions issued earlier in the same second. */
 export function issueSessionToken(user: User, secret: string, ttlSeconds: number): string {
-  return jwt.sign({ sub: String(user.id), role: user.role }, secret, { algorithm: 'HS256', expiresIn: ttlSeconds });
+  return jwt.sign({ sub: String(user.id), role: user.role, iat_ms: Date.now() }, secret, { algorithm: 'HS256', expiresIn: ttlSeconds });
+}
+
+/** True when a password matches the stored hash (false when the user has none yet). */
+export async function passwordMatches(user: User, password: string): Promise<boolean> {
+  return bcrypt.compare(password, user.password_hash ?? DUMMY_HASH).then((ok) => ok && !!user.password_hash);
 }
 
 /** Creates or resets a user's password and role (used for LOADLINE_ADMIN_* and the demo seed). */
