@@ -1,9 +1,6 @@
 import type { Config } from '../config';
 import { authRoutes } from './auth';
 import { openApiRoutes } from './openapi';
-import { importRoutes } from './imports';
-import { assetRoutes } from './assets';
-import { dataQualityRoutes } from './dataQuality';
 import { usersRoutes } from './users';
 import { tokensRoutes } from './tokens';
 import { auditRoutes } from './audit';
@@ -17,9 +14,6 @@ export function apiRouters(config: Config) {
     tokensRoutes(),
     auditRoutes(),
     outboxRoutes(),
-    importRoutes(config),
-    assetRoutes(config),
-    dataQualityRoutes(),
     openApiRoutes(),
   ];
 }
