@@ -172,9 +172,9 @@ describe('Monte Carlo VaR/ES from the generative model', () => {
     expect(c[0].levels[0].valueAtRisk).not.toBe(a[0].levels[0].valueAtRisk);
   });
 
-  it('agrees with the parametric figures within sampling error', () => {
+  it.each(['portfolio', 'panel'] as const)('agrees with the parametric figures within sampling error (%s draws)', (method) => {
     const draws = 40_000;
-    const [mc, mc2] = monteCarloRisk(model, [w, long], { seed: 7, draws, horizon: 5 });
+    const [mc, mc2] = monteCarloRisk(model, [w, long], { seed: 7, draws, horizon: 5, method });
     for (const [mcResult, weights] of [[mc, w], [mc2, long]] as const) {
       const ref = portfolioRisk(model, weights, { horizon: 5 });
       // The s.d. of the simulated returns: relative standard error ≈ 1/√(2n) ≈ 0.0035; allow 4 SE.
@@ -189,6 +189,13 @@ describe('Monte Carlo VaR/ES from the generative model', () => {
         expect(level.expectedShortfall).toBeGreaterThan(level.valueAtRisk);
       });
     }
+  });
+
+  it('samples dense models too', () => {
+    const draws = 40_000;
+    const [mc] = monteCarloRisk(asDense(model), [w], { seed: 3, draws });
+    const ref = portfolioRisk(model, w);
+    expect(Math.abs(mc.simulatedVolatility / ref.volatility - 1)).toBeLessThan(4 / Math.sqrt(2 * draws));
   });
 
   it('refuses too few draws for a tail', () => {

@@ -9,8 +9,8 @@
 import type { CovarianceModel } from './types';
 import { assertWeights, covarianceTimes, loadingsTransposeTimes } from './lowRank';
 import { NORMAL_QUANTILE_95, NORMAL_QUANTILE_99, normalDensity, normalQuantile } from './normalDistribution';
-import { createRandom } from './random';
-import { sampleReturns } from './sampling';
+import { createRandom, type Random } from './random';
+import { sampleReturns, semidefiniteCholesky } from './sampling';
 
 /** Periods per year used to annualise volatility by √(periods per year): common practice. */
 export const PERIODS_PER_YEAR = { daily: 252, weekly: 52, monthly: 12 } as const;
@@ -114,21 +114,46 @@ export function confidenceQuantile(confidence: number): number {
  * Factor model: w'Σw = ‖Wᵀw‖² + Σᵢ Ψᵢwᵢ²; Σw = W(Wᵀw) + Ψ∘w.
  */
 export function varianceBreakdown(model: CovarianceModel, weights: ArrayLike<number>, periodsPerYear: number = PERIODS_PER_YEAR.daily): VarianceBreakdown {
+  return breakdownWithExposures(model, weights, periodsPerYear).breakdown;
+}
+
+/** The breakdown plus y = Wᵀw (factor models), computing Wᵀw once: two O(N·L) passes per portfolio in all. */
+function breakdownWithExposures(
+  model: CovarianceModel,
+  weights: ArrayLike<number>,
+  periodsPerYear: number,
+): { breakdown: VarianceBreakdown; exposures: Float64Array | null } {
   const n = model.assets;
-  const sigmaW = covarianceTimes(model, weights);
+  let sigmaW: Float64Array;
   let variance = 0;
-  for (let i = 0; i < n; i++) variance += weights[i] * sigmaW[i];
   let factorVariance: number | null = null;
   let specificVariance: number | null = null;
+  let exposures: Float64Array | null = null;
   if (model.kind === 'factor') {
+    const { factors: l, loadings, specificVariance: psi } = model;
     const y = loadingsTransposeTimes(model, weights);
-    factorVariance = 0;
-    for (let k = 0; k < y.length; k++) factorVariance += y[k] * y[k];
-    specificVariance = 0;
-    for (let i = 0; i < n; i++) specificVariance += model.specificVariance[i] * weights[i] * weights[i];
-    variance = factorVariance + specificVariance; // the same number, summed from non-negative parts
+    exposures = y;
+    sigmaW = new Float64Array(n);
+    let fv = 0;
+    for (let k = 0; k < l; k++) fv += y[k] * y[k];
+    let sv = 0;
+    for (let i = 0; i < n; i++) {
+      const wi = weights[i];
+      const psiW = psi[i] * wi;
+      sv += psiW * wi;
+      let s = psiW;
+      const row = i * l;
+      for (let k = 0; k < l; k++) s += loadings[row + k] * y[k];
+      sigmaW[i] = s;
+    }
+    factorVariance = fv;
+    specificVariance = sv;
+    variance = fv + sv; // w'Σw summed from its two non-negative parts
+  } else {
+    sigmaW = covarianceTimes(model, weights);
+    for (let i = 0; i < n; i++) variance += weights[i] * sigmaW[i];
+    variance = Math.max(variance, 0);
   }
-  variance = Math.max(variance, 0);
   const volatility = Math.sqrt(variance);
   const marginalContributions = new Float64Array(n);
   const contributions = new Float64Array(n);
@@ -141,14 +166,17 @@ export function varianceBreakdown(model: CovarianceModel, weights: ArrayLike<num
     }
   }
   return {
-    variance,
-    volatility,
-    annualisedVolatility: volatility * Math.sqrt(periodsPerYear),
-    factorVariance,
-    specificVariance,
-    marginalContributions,
-    contributions,
-    percentContributions,
+    breakdown: {
+      variance,
+      volatility,
+      annualisedVolatility: volatility * Math.sqrt(periodsPerYear),
+      factorVariance,
+      specificVariance,
+      marginalContributions,
+      contributions,
+      percentContributions,
+    },
+    exposures,
   };
 }
 
@@ -184,7 +212,7 @@ function riskUnchecked(
   benchmark: ArrayLike<number> | undefined,
 ): PortfolioRisk {
   const n = model.assets;
-  const breakdown = varianceBreakdown(model, weights, opts.periodsPerYear);
+  const { breakdown, exposures } = breakdownWithExposures(model, weights, opts.periodsPerYear);
   let meanReturn = 0;
   for (let i = 0; i < n; i++) meanReturn += weights[i] * model.mean[i];
   const drift = opts.includeMean ? meanReturn : 0;
@@ -198,8 +226,7 @@ function riskUnchecked(
   }
 
   let exposure: ExposureSummary | null = null;
-  if (model.kind === 'factor') {
-    const exposures = loadingsTransposeTimes(model, weights);
+  if (exposures) {
     const factorVariance = breakdown.factorVariance ?? 0;
     exposure = {
       factorVarianceShare: breakdown.variance > 0 ? factorVariance / breakdown.variance : 0,
@@ -231,7 +258,13 @@ export interface MonteCarloOptions {
   horizon?: number;
   confidenceLevels?: readonly number[];
   includeMean?: boolean;
-  /** Draws simulated at a time (memory bound; default 1000). */
+  /**
+   * 'portfolio' (default): draw the factors z and the portfolios' joint specific returns (w_pᵀε)_p ~ N(0, PᵀΨP)
+   * directly — exact for the generative model and O(draws·(L + P)·P). 'panel': draw whole N-asset return vectors
+   * with sampleReturns and value the portfolios on them — O(draws·N·L), for validation.
+   */
+  method?: 'portfolio' | 'panel';
+  /** Draws simulated at a time by the 'panel' method (memory bound; default 1000). */
   chunkSize?: number;
 }
 
@@ -277,17 +310,21 @@ export function monteCarloRisk(model: CovarianceModel, portfolios: readonly Arra
   });
   const returns = portfolios.map(() => new Float64Array(draws));
   const rng = createRandom(options.seed);
-  for (let start = 0; start < draws; start += chunkSize) {
-    const rows = Math.min(chunkSize, draws - start);
-    const panel = sampleReturns(model, { observations: rows, random: rng });
-    for (let p = 0; p < portfolios.length; p++) {
-      const w = portfolios[p];
-      const out = returns[p];
-      for (let r = 0; r < rows; r++) {
-        let s = 0;
-        const base = r * n;
-        for (let i = 0; i < n; i++) s += w[i] * panel.values[base + i];
-        out[start + r] = s;
+  if ((options.method ?? 'portfolio') === 'portfolio') {
+    simulatePortfolioReturns(model, portfolios, means, rng, returns);
+  } else {
+    for (let start = 0; start < draws; start += chunkSize) {
+      const rows = Math.min(chunkSize, draws - start);
+      const panel = sampleReturns(model, { observations: rows, random: rng });
+      for (let p = 0; p < portfolios.length; p++) {
+        const w = portfolios[p];
+        const out = returns[p];
+        for (let r = 0; r < rows; r++) {
+          let s = 0;
+          const base = r * n;
+          for (let i = 0; i < n; i++) s += w[i] * panel.values[base + i];
+          out[start + r] = s;
+        }
       }
     }
   }
@@ -316,4 +353,61 @@ export function monteCarloRisk(model: CovarianceModel, portfolios: readonly Arra
       }),
     };
   });
+}
+
+/**
+ * Joint draws of P portfolio returns r = Pᵀx from the generative model without drawing N-vectors.
+ * Factor model: r_p = m_p + (Wᵀw_p)ᵀz + u_p with z ~ N(0, I_L) and u = Pᵀε ~ N(0, PᵀΨP) (a linear map of a
+ * Gaussian is Gaussian), so the factor draws keep their role; dense model: r ~ N(m, PᵀΣP).
+ */
+function simulatePortfolioReturns(
+  model: CovarianceModel,
+  portfolios: readonly ArrayLike<number>[],
+  means: number[],
+  rng: Random,
+  out: Float64Array[],
+): void {
+  const count = portfolios.length;
+  const n = model.assets;
+  const draws = out[0]?.length ?? 0;
+  // Covariance of the non-factor part across portfolios (P × P).
+  const joint = new Float64Array(count * count);
+  let exposures: Float64Array[] = [];
+  if (model.kind === 'factor') {
+    exposures = portfolios.map((w) => loadingsTransposeTimes(model, w));
+    for (let p = 0; p < count; p++) {
+      for (let q = 0; q <= p; q++) {
+        let s = 0;
+        for (let i = 0; i < n; i++) s += model.specificVariance[i] * portfolios[p][i] * portfolios[q][i];
+        joint[p * count + q] = s;
+        joint[q * count + p] = s;
+      }
+    }
+  } else {
+    const sigmaW = portfolios.map((w) => covarianceTimes(model, w));
+    for (let p = 0; p < count; p++) {
+      for (let q = 0; q <= p; q++) {
+        let s = 0;
+        for (let i = 0; i < n; i++) s += portfolios[p][i] * sigmaW[q][i];
+        joint[p * count + q] = s;
+        joint[q * count + p] = s;
+      }
+    }
+  }
+  const c = semidefiniteCholesky(joint, count);
+  const l = model.kind === 'factor' ? model.factors : 0;
+  const z = new Float64Array(l);
+  const e = new Float64Array(count);
+  for (let d = 0; d < draws; d++) {
+    rng.fillNormal(z);
+    rng.fillNormal(e);
+    for (let p = 0; p < count; p++) {
+      let r = means[p];
+      const y = exposures[p];
+      for (let k = 0; k < l; k++) r += y[k] * z[k];
+      const row = p * count;
+      for (let q = 0; q <= p; q++) r += c[row + q] * e[q];
+      out[p][d] = r;
+    }
+  }
 }
