@@ -17,6 +17,7 @@ import { invertFromCholesky, LOG_2PI, woodburyPieces } from './logLikelihood';
 import { canonicalLoadings } from './orientation';
 import { fitPpca } from './ppca';
 import type { Scatter } from './scatter';
+import { squarem } from './squarem';
 import type { FitControl } from './types';
 
 export interface FactorAnalysisOptions {
@@ -85,10 +86,8 @@ export function fitFactorAnalysis(scatter: Scatter, l: number, options: FactorAn
   }
   for (let i = 0; i < n; i++) theta[n * l + i] = Math.max(theta[n * l + i], floor[i]);
 
-  let evaluations = 0;
   const emStep = (params: Float64Array): StepResult => {
     // (params may be a subarray view: read only)
-    evaluations++;
     const w = params.subarray(0, n * l);
     const psi = params.subarray(n * l);
     const { bt, m } = woodburyPieces(w, psi, n, l);
@@ -148,74 +147,26 @@ export function fitFactorAnalysis(scatter: Scatter, l: number, options: FactorAn
     return { next, logLikelihood, maxRelativePsiChange: maxChange };
   };
 
-  const tol = options.tolerance ?? 1e-12;
-  const ptol = options.parameterTolerance ?? 1e-7;
-  const maxEvaluations = options.maxEvaluations ?? 20000;
-  const accelerate = options.accelerate ?? true;
-  const trace: number[] = [];
-  let iterations = 0;
-  let converged = false;
-  let stepMax = 1;
-  let previous = -Infinity;
-  let lastLl = -Infinity;
-
-  const report = (ll: number) => {
-    control.onProgress?.({ stage: 'factor-analysis', iteration: iterations, logLikelihood: ll });
-  };
-
-  while (evaluations < maxEvaluations) {
-    const first = emStep(theta);
-    const ll0 = first.logLikelihood;
-    trace.push(ll0);
-    lastLl = ll0;
-    iterations++;
-    if (!Number.isFinite(ll0)) throw new Error('factor analysis diverged (non-finite log-likelihood)');
-    if (ll0 - previous <= tol * Math.abs(ll0) && first.maxRelativePsiChange < ptol) {
-      converged = true;
-      break;
-    }
-    previous = ll0;
-    if (iterations % 5 === 0) report(ll0);
-    if (!accelerate) {
-      theta = first.next;
-      continue;
-    }
-    const theta1 = first.next;
-    const second = emStep(theta1);
-    const theta2 = second.next;
-    // SQUAREM S3: r = θ1 − θ0, v = θ2 − 2θ1 + θ0, α = −‖r‖/‖v‖, θ' = θ0 − 2αr + α²v
-    let rr = 0;
-    let vv = 0;
-    for (let j = 0; j < size; j++) {
-      const r = theta1[j] - theta[j];
-      const v = theta2[j] - 2 * theta1[j] + theta[j];
-      rr += r * r;
-      vv += v * v;
-    }
-    let alpha = vv > 0 ? -Math.sqrt(rr / vv) : -1;
-    alpha = Math.max(-stepMax, Math.min(-1, alpha));
-    const proposal = new Float64Array(size);
-    for (let j = 0; j < size; j++) {
-      const r = theta1[j] - theta[j];
-      const v = theta2[j] - 2 * theta1[j] + theta[j];
-      proposal[j] = theta[j] - 2 * alpha * r + alpha * alpha * v;
-    }
-    for (let i = 0; i < n; i++) proposal[n * l + i] = Math.max(proposal[n * l + i], floor[i]);
-    let third: StepResult | null = null;
-    try {
-      third = emStep(proposal);
-    } catch {
-      third = null; // e.g. M not positive definite after a wild extrapolation
-    }
-    if (third && Number.isFinite(third.logLikelihood) && third.logLikelihood >= second.logLikelihood) {
-      theta = third.next; // stabilising EM step after the extrapolation
-      if (alpha === -stepMax) stepMax *= 4;
-    } else {
-      theta = theta2;
-      stepMax = Math.max(1, stepMax / 4);
-    }
-  }
-  report(lastLl);
+  const result = squarem(
+    theta,
+    (x) => {
+      const r = emStep(x);
+      return { next: r.next, logLikelihood: r.logLikelihood, maxRelativeChange: r.maxRelativePsiChange };
+    },
+    {
+      tolerance: options.tolerance ?? 1e-12,
+      parameterTolerance: options.parameterTolerance ?? 1e-7,
+      maxEvaluations: options.maxEvaluations ?? 20000,
+      accelerate: options.accelerate ?? true,
+      project: (x) => {
+        for (let i = 0; i < n; i++) x[n * l + i] = Math.max(x[n * l + i], floor[i]);
+      },
+      stage: 'factor-analysis',
+    },
+    control,
+  );
+  theta = result.theta;
+  const { trace, iterations, converged, logLikelihood: lastLl } = result;
   const w = theta.subarray(0, n * l);
   const psi = Float64Array.from(theta.subarray(n * l));
   return {
@@ -224,7 +175,7 @@ export function fitFactorAnalysis(scatter: Scatter, l: number, options: FactorAn
     logLikelihood: lastLl,
     trace,
     iterations,
-    evaluations,
+    evaluations: result.evaluations,
     converged,
     heywood: heywoodOf(psi),
   };

@@ -1,8 +1,8 @@
 /**
  * Symmetric eigenproblems.
  *
- * - `symmetricEigen`: all eigenpairs of a small symmetric matrix by the cyclic Jacobi method (Golub & Van Loan,
- *   Matrix Computations, 4th ed., §8.5), used for L × L and Krylov projections (at most a few hundred rows).
+ * - `symmetricEigen`: all eigenpairs of a small symmetric matrix (tridiagonal QL), used for L × L, T × T when
+ *   small, and Krylov projections (at most a few hundred rows).
  * - `topEigenpairs`: the k largest eigenpairs of a large symmetric positive-semidefinite operator by a restarted
  *   block Krylov method (block Lanczos with full reorthogonalisation and Rayleigh–Ritz extraction; Golub &
  *   Underwood 1977, Saad 2011 "Numerical methods for large eigenvalue problems" §6). Never forms a full N × N
@@ -18,56 +18,164 @@ export interface EigenResult {
   vectors: Float64Array;
 }
 
-/** All eigenpairs of a symmetric n × n matrix (cyclic Jacobi), sorted by decreasing eigenvalue. */
+/**
+ * All eigenpairs of a symmetric n × n matrix, sorted by decreasing eigenvalue: Householder tridiagonalisation then
+ * the implicit QL method (EISPACK tred2/tql2, Bowdler, Martin, Reinsch & Wilkinson 1968; as in the public-domain
+ * JAMA library), written over Float64Array.
+ */
 export function symmetricEigen(input: Float64Array, n: number): EigenResult {
-  const a = Float64Array.from(input.subarray(0, n * n));
-  const v = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) v[i * n + i] = 1;
-  let scale = 0;
-  for (let i = 0; i < n * n; i++) scale += a[i] * a[i];
-  for (let sweep = 0; sweep < 100; sweep++) {
-    let off = 0;
-    for (let p = 0; p < n; p++) for (let q = p + 1; q < n; q++) off += a[p * n + q] * a[p * n + q];
-    if (off <= 1e-30 * scale || off === 0) break;
-    for (let p = 0; p < n - 1; p++) {
-      for (let q = p + 1; q < n; q++) {
-        const apq = a[p * n + q];
-        if (apq === 0) continue;
-        const app = a[p * n + p];
-        const aqq = a[q * n + q];
-        const theta = (aqq - app) / (2 * apq);
-        const t = Math.sign(theta || 1) / (Math.abs(theta) + Math.sqrt(theta * theta + 1));
-        const c = 1 / Math.sqrt(t * t + 1);
-        const s = t * c;
-        for (let k = 0; k < n; k++) {
-          const akp = a[k * n + p];
-          const akq = a[k * n + q];
-          a[k * n + p] = c * akp - s * akq;
-          a[k * n + q] = s * akp + c * akq;
-        }
-        for (let k = 0; k < n; k++) {
-          const apk = a[p * n + k];
-          const aqk = a[q * n + k];
-          a[p * n + k] = c * apk - s * aqk;
-          a[q * n + k] = s * apk + c * aqk;
-        }
-        for (let k = 0; k < n; k++) {
-          const vkp = v[k * n + p];
-          const vkq = v[k * n + q];
-          v[k * n + p] = c * vkp - s * vkq;
-          v[k * n + q] = s * vkp + c * vkq;
-        }
-      }
-    }
-  }
-  const order = Array.from({ length: n }, (_, i) => i).sort((x, y) => a[y * n + y] - a[x * n + x] || x - y);
+  const v = Float64Array.from(input.subarray(0, n * n));
+  const d = new Float64Array(n);
+  const e = new Float64Array(n);
+  if (n === 0) return { values: d, vectors: v };
+  tred2(n, v, d, e);
+  tql2(n, v, d, e);
+  const order = Array.from({ length: n }, (_, i) => i).sort((x, y) => d[y] - d[x] || x - y);
   const values = new Float64Array(n);
   const vectors = new Float64Array(n * n);
   order.forEach((src, dst) => {
-    values[dst] = a[src * n + src];
+    values[dst] = d[src];
     for (let k = 0; k < n; k++) vectors[k * n + dst] = v[k * n + src];
   });
   return { values, vectors };
+}
+
+function tred2(n: number, V: Float64Array, d: Float64Array, e: Float64Array): void {
+  for (let j = 0; j < n; j++) d[j] = V[(n - 1) * n + j];
+  for (let i = n - 1; i > 0; i--) {
+    let scale = 0;
+    let h = 0;
+    for (let k = 0; k < i; k++) scale += Math.abs(d[k]);
+    if (scale === 0) {
+      e[i] = d[i - 1];
+      for (let j = 0; j < i; j++) {
+        d[j] = V[(i - 1) * n + j];
+        V[i * n + j] = 0;
+        V[j * n + i] = 0;
+      }
+    } else {
+      for (let k = 0; k < i; k++) {
+        d[k] /= scale;
+        h += d[k] * d[k];
+      }
+      let f = d[i - 1];
+      let g = Math.sqrt(h);
+      if (f > 0) g = -g;
+      e[i] = scale * g;
+      h -= f * g;
+      d[i - 1] = f - g;
+      for (let j = 0; j < i; j++) e[j] = 0;
+      for (let j = 0; j < i; j++) {
+        f = d[j];
+        V[j * n + i] = f;
+        g = e[j] + V[j * n + j] * f;
+        for (let k = j + 1; k <= i - 1; k++) {
+          g += V[k * n + j] * d[k];
+          e[k] += V[k * n + j] * f;
+        }
+        e[j] = g;
+      }
+      f = 0;
+      for (let j = 0; j < i; j++) {
+        e[j] /= h;
+        f += e[j] * d[j];
+      }
+      const hh = f / (h + h);
+      for (let j = 0; j < i; j++) e[j] -= hh * d[j];
+      for (let j = 0; j < i; j++) {
+        f = d[j];
+        g = e[j];
+        for (let k = j; k <= i - 1; k++) V[k * n + j] -= f * e[k] + g * d[k];
+        d[j] = V[(i - 1) * n + j];
+        V[i * n + j] = 0;
+      }
+    }
+    d[i] = h;
+  }
+  for (let i = 0; i < n - 1; i++) {
+    V[(n - 1) * n + i] = V[i * n + i];
+    V[i * n + i] = 1;
+    const h = d[i + 1];
+    if (h !== 0) {
+      for (let k = 0; k <= i; k++) d[k] = V[k * n + i + 1] / h;
+      for (let j = 0; j <= i; j++) {
+        let g = 0;
+        for (let k = 0; k <= i; k++) g += V[k * n + i + 1] * V[k * n + j];
+        for (let k = 0; k <= i; k++) V[k * n + j] -= g * d[k];
+      }
+    }
+    for (let k = 0; k <= i; k++) V[k * n + i + 1] = 0;
+  }
+  for (let j = 0; j < n; j++) {
+    d[j] = V[(n - 1) * n + j];
+    V[(n - 1) * n + j] = 0;
+  }
+  V[(n - 1) * n + (n - 1)] = 1;
+  e[0] = 0;
+}
+
+function tql2(n: number, V: Float64Array, d: Float64Array, e: Float64Array): void {
+  for (let i = 1; i < n; i++) e[i - 1] = e[i];
+  e[n - 1] = 0;
+  let f = 0;
+  let tst1 = 0;
+  const eps = 2 ** -52;
+  for (let l = 0; l < n; l++) {
+    tst1 = Math.max(tst1, Math.abs(d[l]) + Math.abs(e[l]));
+    let m = l;
+    while (m < n) {
+      if (Math.abs(e[m]) <= eps * tst1) break;
+      m++;
+    }
+    if (m === n) m = n - 1;
+    if (m > l) {
+      let iter = 0;
+      do {
+        if (++iter > 300) throw new Error('symmetric eigenproblem did not converge');
+        let g = d[l];
+        let p = (d[l + 1] - g) / (2 * e[l]);
+        let r = Math.sqrt(p * p + 1);
+        if (p < 0) r = -r;
+        d[l] = e[l] / (p + r);
+        d[l + 1] = e[l] * (p + r);
+        const dl1 = d[l + 1];
+        let h = g - d[l];
+        for (let i = l + 2; i < n; i++) d[i] -= h;
+        f += h;
+        p = d[m];
+        let c = 1;
+        let c2 = c;
+        let c3 = c;
+        const el1 = e[l + 1];
+        let s = 0;
+        let s2 = 0;
+        for (let i = m - 1; i >= l; i--) {
+          c3 = c2;
+          c2 = c;
+          s2 = s;
+          g = c * e[i];
+          h = c * p;
+          r = Math.sqrt(p * p + e[i] * e[i]);
+          e[i + 1] = s * r;
+          s = e[i] / r;
+          c = p / r;
+          p = c * d[i] - s * g;
+          d[i + 1] = h + s * (c * g + s * d[i]);
+          for (let k = 0; k < n; k++) {
+            const row = k * n;
+            h = V[row + i + 1];
+            V[row + i + 1] = s * V[row + i] + c * h;
+            V[row + i] = c * V[row + i] - s * h;
+          }
+        }
+        p = (-s * s2 * c3 * el1 * e[l]) / dl1;
+        e[l] = s * p;
+        d[l] = c * p;
+      } while (Math.abs(e[l]) > eps * tst1);
+    }
+    d[l] += f;
+    e[l] = 0;
+  }
 }
 
 /**
@@ -87,7 +195,9 @@ export function denseOperator(s: Float64Array, n: number): SymmetricOperator {
 export interface TopEigenOptions {
   /** Block size (default k + 4, at least 8). */
   blockSize?: number;
-  /** Krylov blocks per restart (default chosen so the basis has about 6k–160 vectors). */
+  /** Krylov basis size before a restart (default max(6k, 150)). */
+  basisSize?: number;
+  /** Krylov blocks per restart (default basisSize / blockSize). */
   blocks?: number;
   /** Relative residual tolerance ‖A u − θ u‖ ≤ tol · θ₁ (default 1e-10). */
   tolerance?: number;
@@ -106,14 +216,14 @@ export interface TopEigenResult extends EigenResult {
 
 /** Orthonormalises the rows of Q (m × n) in place against the first `fixed` rows and each other (two passes of
  * modified Gram–Schmidt). Rows that vanish are replaced by seeded random rows. Returns the row count kept. */
-function orthonormaliseRows(q: Float64Array, from: number, to: number, n: number, refill: () => number): void {
+function orthonormaliseRows(q: Float64Array, from: number, to: number, n: number, refill: () => number, lowest = 0): void {
   for (let r = from; r < to; r++) {
     const base = r * n;
-    for (let attempt = 0; attempt < 3; attempt++) {
+    for (let attempt = 0, low = lowest; attempt < 3; attempt++, low = 0) {
       let before = 0;
       for (let i = 0; i < n; i++) before += q[base + i] * q[base + i];
       for (let pass = 0; pass < 2; pass++) {
-        for (let s = 0; s < r; s++) {
+        for (let s = low; s < r; s++) {
           const sb = s * n;
           let d = 0;
           for (let i = 0; i < n; i++) d += q[sb + i] * q[base + i];
@@ -140,7 +250,7 @@ export function topEigenpairs(op: SymmetricOperator, k: number, options: TopEige
   if (k > n) throw new Error(`cannot take ${k} eigenpairs of a ${n}-dimensional operator`);
   const b = Math.min(n, options.blockSize ?? Math.max(8, k + 4));
   const tol = options.tolerance ?? 1e-10;
-  const maxBasis = Math.min(n, Math.max(6 * k, Math.min(160, 4 * b)));
+  const maxBasis = Math.min(n, Math.max(6 * k, options.basisSize ?? 150));
   const blocks = Math.max(2, options.blocks ?? Math.floor(maxBasis / b));
   const maxRestarts = options.maxRestarts ?? 60;
   const rng = createRandom(options.seed ?? 20240611);
@@ -191,7 +301,15 @@ export function topEigenpairs(op: SymmetricOperator, k: number, options: TopEige
       // next block: images of the most recent block (Krylov sequence), orthogonalised against the basis
       q.set(aq.subarray(sourceRow * n, (sourceRow + add) * n), filled * n);
       sourceRow = filled;
-      orthonormaliseRows(q, filled, filled + add, n, refill);
+      // block classical Gram–Schmidt against the basis, twice (CGS2), with tiled products; then within the block
+      const fresh = q.subarray(filled * n, (filled + add) * n);
+      const basis = q.subarray(0, filled * n);
+      for (let pass = 0; pass < 2; pass++) {
+        const coef = multiplyABt(fresh, add, n, basis, filled); // add × filled
+        const proj = multiplyAtBRows(coef, add, filled, basis, n);
+        for (let j = 0; j < add * n; j++) fresh[j] -= proj[j];
+      }
+      orthonormaliseRows(q, filled, filled + add, n, refill, filled);
       const img = op.apply(q.subarray(filled * n, (filled + add) * n), add);
       applications += add;
       aq.set(img, filled * n);
@@ -251,4 +369,11 @@ function multiplyRowsInto(y: Float64Array, r: number, m: number, rows: Float64Ar
       for (let j = 0; j < n; j++) out[oi + j] += c * rows[rp + j];
     }
   }
+}
+
+/** (r × n) = Coef (r × m) · Rows (m × n), accumulating row by row. */
+function multiplyAtBRows(coef: Float64Array, r: number, m: number, rows: Float64Array, n: number): Float64Array {
+  const out = new Float64Array(r * n);
+  multiplyRowsInto(coef, r, m, rows, n, out);
+  return out;
 }

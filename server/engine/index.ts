@@ -1,0 +1,26 @@
+/** Public API of the estimation engine (pure TypeScript: arrays in, numbers out). */
+export * from './types';
+export { createRandom, type Random } from './random';
+export { plantedPanel, plantedCovariance, type PlantedPanel, type PlantedPanelOptions } from './planted';
+export { observationWeights, effectiveSampleSize, decayFactor, describeWeighting, type WeightingSummary } from './weights';
+export { buildScatter, weightedMean, panelHasMissing, type Scatter } from './scatter';
+export { sampleCovariance, type SampleCovarianceResult, type SampleCovarianceOptions } from './sampleCovariance';
+export { nearestPsdCovariance, type NearestPsdResult } from './nearestPsd';
+export { ledoitWolf, type LedoitWolfResult } from './ledoitWolf';
+export { fitPpca, topSpectrum, type PpcaResult, type Spectrum } from './ppca';
+export { fitFactorAnalysis, type FactorAnalysisOptions, type FactorAnalysisResult } from './factorAnalysis';
+export { fitWithMissing, type MissingFitOptions, type MissingFitResult } from './missing';
+export {
+  LOG_2PI,
+  factorModelLogLikelihood,
+  denseLogLikelihood,
+  modelLogLikelihood,
+  factorLogLikelihoodFromScatter,
+  woodburyPieces,
+} from './logLikelihood';
+export { canonicalLoadings, orientFactorModel } from './orientation';
+export { chooseFactorCount, freeParameters, type FactorCountResult, type FactorCountRow, type FactorCountOptions } from './factorCount';
+export { fitModel, type FitOptions, type FitResult, type FitDiagnostics, type FitMethod, type MissingPolicy } from './fit';
+export { symmetricEigen, topEigenpairs, denseOperator, type SymmetricOperator, type EigenResult } from './linalg/eigen';
+export { cholesky, choleskySolve, choleskyLogDet, spdInverse, tryCholesky } from './linalg/cholesky';
+export { multiplyABt, multiply, multiplyAtB, rowGram, transpose, lowRankPlusDiagonal, relativeFrobenius } from './linalg/dense';
