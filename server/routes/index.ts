@@ -1,6 +1,9 @@
 import type { Config } from '../config';
 import { authRoutes } from './auth';
 import { openApiRoutes } from './openapi';
+import { importRoutes } from './imports';
+import { assetRoutes } from './assets';
+import { dataQualityRoutes } from './dataQuality';
 import { usersRoutes } from './users';
 import { tokensRoutes } from './tokens';
 import { auditRoutes } from './audit';
@@ -14,6 +17,9 @@ export function apiRouters(config: Config) {
     tokensRoutes(),
     auditRoutes(),
     outboxRoutes(),
+    importRoutes(config),
+    assetRoutes(config),
+    dataQualityRoutes(),
     openApiRoutes(),
   ];
 }
