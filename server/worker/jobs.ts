@@ -1,6 +1,7 @@
 import type PgBoss from 'pg-boss';
+import { registerModelFitJobs } from './modelRunJob';
 
 /** Every queue the worker serves: each feature adds its queue and handler here. */
 export async function registerJobHandlers(boss: PgBoss): Promise<void> {
-  void boss;
+  await registerModelFitJobs(boss);
 }
