@@ -35,6 +35,18 @@ const TABLE: [string, Allowed][] = [
   // Outbox of the local mail sink
   ['GET /api/outbox', ['admin']],
   ['GET /api/outbox/:id', ['admin']],
+  // Model runs (fits, lifecycle, comparison)
+  ['POST /api/model-runs', ['analyst', 'admin']],
+  ['GET /api/model-runs', 'signed-in'],
+  ['GET /api/model-runs/approved', 'signed-in'],
+  ['GET /api/model-runs/:id', 'signed-in'],
+  ['GET /api/model-runs/:id/results', 'signed-in'],
+  ['GET /api/model-runs/:id/loadings', 'signed-in'],
+  ['GET /api/model-runs/:id/factor-scores', 'signed-in'],
+  ['GET /api/model-runs/:id/compare', 'signed-in'],
+  ['POST /api/model-runs/:id/cancel', ['analyst', 'admin']],
+  ['POST /api/model-runs/:id/approve', ['analyst', 'admin']],
+  ['POST /api/model-runs/:id/retire', ['analyst', 'admin']],
   // API description
   ['GET /api/openapi.json', 'public'],
 ];
