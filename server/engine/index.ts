@@ -3,7 +3,7 @@ export * from './types';
 export { createRandom, type Random } from './random';
 export { plantedPanel, plantedCovariance, type PlantedPanel, type PlantedPanelOptions } from './planted';
 export { observationWeights, effectiveSampleSize, decayFactor, describeWeighting, type WeightingSummary } from './weights';
-export { buildScatter, weightedMean, panelHasMissing, type Scatter } from './scatter';
+export { buildScatter, scatterFromCovariance, weightedMean, panelHasMissing, type Scatter } from './scatter';
 export { sampleCovariance, type SampleCovarianceResult, type SampleCovarianceOptions } from './sampleCovariance';
 export { nearestPsdCovariance, type NearestPsdResult } from './nearestPsd';
 export { ledoitWolf, type LedoitWolfResult } from './ledoitWolf';

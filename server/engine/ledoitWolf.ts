@@ -76,8 +76,8 @@ export function ledoitWolf(panel: ReturnsPanel, options: { weighting?: Weighting
   let quad = 0; // Σ_t w_t² x_tᵀ S x_t
   const equal = options.weighting === undefined || options.weighting.kind === 'equal';
   if (equal && !pairwise) {
-    // With equal weights S = Xᵀ X / T, so Σ_t x_tᵀ S x_t = T ‖S‖²_F: no extra product needed.
-    quad = sumW2 * t * normS2;
+    // With equal weights S = Xᵀ X / T, so Σ_t x_tᵀ S x_t = T ‖S‖²_F and Σ_t w_t² x_tᵀ S x_t = ‖S‖²_F / T.
+    quad = sumW2 * normS2;
   } else {
     const xs = multiplyABt(xc, t, n, s, n); // rows x_tᵀ S (S symmetric)
     for (let r = 0; r < t; r++) {

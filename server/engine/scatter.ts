@@ -131,3 +131,29 @@ export function denseScatter(scatter: Scatter): Float64Array {
   scatter.dense = rowGram(zt, scatter.size, scatter.observations);
   return scatter.dense;
 }
+
+/**
+ * A scatter from a given covariance or correlation matrix (e.g. a published one) and its number of observations;
+ * the matrix is used as the 1/T scatter (ML factor analysis is scale-invariant, so uniquenesses do not depend on it).
+ */
+export function scatterFromCovariance(covariance: Float64Array, n: number, observations: number): Scatter {
+  if (covariance.length !== n * n) throw new Error(`covariance has ${covariance.length} entries, expected ${n} × ${n}`);
+  const dense = Float64Array.from(covariance);
+  const diagonal = new Float64Array(n);
+  let traceS = 0;
+  for (let i = 0; i < n; i++) {
+    diagonal[i] = dense[i * n + i];
+    traceS += diagonal[i];
+  }
+  return {
+    size: n,
+    observations,
+    diagonal,
+    trace: traceS,
+    mean: new Float64Array(n),
+    weights: new Float64Array(observations).fill(1 / observations),
+    effectiveSampleSize: observations,
+    dense,
+    apply: (blockT, k) => multiplyABt(blockT, k, n, dense, n),
+  };
+}
