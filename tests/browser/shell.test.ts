@@ -42,7 +42,7 @@ describe('the shell for each role', () => {
       const expected = EXPECTED[role];
       await signInThroughUi(page, server.url, role);
       await page.waitForURL((url) => url.pathname === expected.landing);
-      await expect(rail().getByRole('link', { name: 'Home' }).isVisible()).resolves.toBe(true);
+      await rail().getByRole('link', { name: 'Home', exact: true }).waitFor();
       for (const label of FOUNDATION_NAV) {
         const count = await rail().getByRole('link', { name: label, exact: true }).count();
         expect({ label, count }).toEqual({ label, count: expected.visible.includes(label) ? 1 : 0 });
@@ -106,7 +106,7 @@ describe('signing in and out', () => {
     await signInThroughUi(page, server.url, 'compliance');
     await page.goto(`${server.url}/no-such-page`);
     await page.getByRole('heading', { name: 'No page at this address' }).waitFor();
-    await expect(rail().isVisible()).resolves.toBe(true);
+    await rail().waitFor();
     await page.close();
   });
 });

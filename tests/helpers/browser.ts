@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Server } from 'node:http';
 import { chromium, type BrowserContext, type Page } from 'playwright-core';
-import { loadConfig } from '../../server/config';
+import { loadConfig, type Config } from '../../server/config';
 import { createKnex, bindModels } from '../../server/db/knex';
 import { createApp } from '../../server/app';
 import { demoUser } from './app';
@@ -27,9 +27,9 @@ export async function launchBrowser(): Promise<{ context: BrowserContext; close:
   };
 }
 
-/** The real app (serving the built client from dist/client) on a free loopback port. */
-export async function startServer(): Promise<{ url: string; close: () => Promise<void> }> {
-  const config = loadConfig();
+/** The real app (serving the built client from dist/client) on a free loopback port; `overrides` adjust its config (e.g. smtpUrl). */
+export async function startServer(overrides: Partial<Config> = {}): Promise<{ url: string; close: () => Promise<void> }> {
+  const config = { ...loadConfig(), ...overrides };
   const knex = createKnex(config.databaseUrl, { max: 5 });
   bindModels(knex);
   const app = createApp({ ...config, publicUrl: 'http://127.0.0.1' });

@@ -6,7 +6,7 @@ import { Alert } from '../components/Alert';
 import { Button } from '../components/Button';
 import { errorMessage } from '../lib/api';
 import { CurrentUserContext } from './currentUser';
-import { navigationFor } from './navigation';
+import { NAV_ITEMS, navigationFor } from './navigation';
 import { Wordmark } from './Wordmark';
 
 /** The signed-in frame: left rail with the role's sections, top bar with the user and sign-out, page in the middle. */
@@ -86,7 +86,9 @@ function TopBar({ user }: { user: PublicUser }) {
   const signOut = useSignOut();
   const navigate = useNavigate();
   return (
-    <header className="sticky top-0 z-10 flex h-12 items-center justify-end gap-4 border-b border-line bg-page/95 px-6 backdrop-blur">
+    <header className="sticky top-0 z-10 flex h-12 items-center gap-4 border-b border-line bg-page/95 px-6 backdrop-blur">
+      <Breadcrumb />
+      <div className="flex-1" />
       <div className="flex items-center gap-2.5 text-sm" aria-label="Signed in as">
         <span className="inline-flex h-7 w-7 items-center justify-center rounded-full bg-accent-soft text-xs font-semibold text-accent-strong" aria-hidden>
           {initials(user.name)}
@@ -104,6 +106,18 @@ function TopBar({ user }: { user: PublicUser }) {
         Sign out
       </Button>
     </header>
+  );
+}
+
+/** Where you are: the rail section and page of the current address. */
+function Breadcrumb() {
+  const location = useLocation();
+  const item = NAV_ITEMS.filter((entry) => location.pathname === entry.to || location.pathname.startsWith(`${entry.to}/`)).sort((a, b) => b.to.length - a.to.length)[0];
+  if (!item) return null;
+  return (
+    <p className="text-sm text-ink-faint">
+      {item.section} <span aria-hidden>/</span> <span className="text-ink-soft">{item.label}</span>
+    </p>
   );
 }
 

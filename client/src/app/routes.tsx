@@ -21,4 +21,7 @@ export const shellRoutes: RouteObject[] = [
   { path: '/tokens', lazy: page(() => import('../features/tokens/TokensPage')) },
   { path: '/audit', lazy: page(() => import('../features/audit/AuditPage')) },
   { path: '/outbox', lazy: page(() => import('../features/outbox/OutboxPage')) },
+  { path: '/portfolios', lazy: page(() => import('../features/portfolios/PortfoliosPage')) },
+  { path: '/portfolios/:id', lazy: page(() => import('../features/portfolios/PortfolioEditorPage')) },
+  { path: '/portfolios/:id/risk', lazy: page(() => import('../features/portfolios/PortfolioRiskPage')) },
 ];

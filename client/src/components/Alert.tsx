@@ -43,11 +43,11 @@ export function Alert({ tone = 'info', title, children, issues }: { tone?: Tone;
   );
 }
 
-/** The standard way to show what a query or mutation threw. */
-export function ErrorAlert({ error, title }: { error: unknown; title?: string }) {
+/** The standard way to show what a query or mutation threw; pass showIssues={false} when a form shows them beside its fields. */
+export function ErrorAlert({ error, title, showIssues = true }: { error: unknown; title?: string; showIssues?: boolean }) {
   if (!error) return null;
   const message = error instanceof Error ? error.message : 'Something went wrong';
-  const issues = error instanceof ApiError ? error.issues : undefined;
+  const issues = showIssues && error instanceof ApiError ? error.issues : undefined;
   return (
     <Alert tone="breach" title={title} issues={issues}>
       {message}

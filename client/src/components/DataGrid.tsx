@@ -1,4 +1,4 @@
-import { useCallback, useMemo, useRef, useState, type ReactNode } from 'react';
+import { useCallback, useEffect, useMemo, useRef, useState, type ReactNode } from 'react';
 import { AgGridReact } from 'ag-grid-react';
 import {
   ModuleRegistry,
@@ -10,7 +10,9 @@ import {
   CsvExportModule,
   CellStyleModule,
   RowStyleModule,
+  RowSelectionModule,
   ValidationModule,
+  type RowSelectionOptions,
   themeQuartz,
   type ColDef,
   type ColTypeDef,
@@ -31,6 +33,7 @@ ModuleRegistry.registerModules([
   CsvExportModule,
   CellStyleModule,
   RowStyleModule,
+  RowSelectionModule,
   ...(import.meta.env.DEV ? [ValidationModule] : []),
 ]);
 
@@ -64,9 +67,13 @@ export const COLUMN_TYPES: Record<string, ColTypeDef> = {
     headerClass: 'ag-right-aligned-header',
     filter: 'agNumberColumnFilter',
   },
+  /** ISO date-times shown as `yyyy-MM-dd HH:mm`: a fixed width that fits them. */
   timestamp: {
     cellClass: 'll-figure',
-    filter: 'agDateColumnFilter',
+    filter: 'agTextColumnFilter',
+    flex: 0,
+    width: 160,
+    minWidth: 160,
   },
 };
 
@@ -88,7 +95,11 @@ export type DataGridProps<Row> = {
   rowClass?: (row: Row) => string | undefined;
   onGridReady?: (api: GridApi<Row>) => void;
   ariaLabel?: string;
+  /** With getRowId: the row shown as selected (a click selects too; null clears). Leave out for no selection. */
+  selectedRowId?: string | null;
 };
+
+const SINGLE_ROW: RowSelectionOptions = { mode: 'singleRow', checkboxes: false, enableClickSelection: true };
 
 /** AG Grid with Loadline's theme, flex columns, an optional quick search and a CSV export button. */
 export function DataGrid<Row>({
@@ -105,8 +116,20 @@ export function DataGrid<Row>({
   rowClass,
   onGridReady,
   ariaLabel,
+  selectedRowId,
 }: DataGridProps<Row>) {
   const gridRef = useRef<AgGridReact<Row>>(null);
+  const selectable = selectedRowId !== undefined;
+  // Keep the grid's selection in step with the page's (rows reload, or the page selects a row itself).
+  const syncSelection = useCallback(() => {
+    const api = gridRef.current?.api;
+    if (!api || !selectable || api.isDestroyed()) return;
+    const node = selectedRowId ? api.getRowNode(selectedRowId) : undefined;
+    if (node) {
+      if (!node.isSelected()) node.setSelected(true, true);
+    } else api.deselectAll();
+  }, [selectable, selectedRowId]);
+  useEffect(syncSelection, [syncSelection, rows]);
   const [search, setSearch] = useState('');
   const exportCsv = useCallback(() => gridRef.current?.api.exportDataAsCsv({ fileName: csvFileName }), [csvFileName]);
   const getRowClass = useMemo(() => (rowClass ? (params: RowClassParams<Row>) => (params.data ? rowClass(params.data) : undefined) : undefined), [rowClass]);
@@ -149,7 +172,12 @@ export function DataGrid<Row>({
           overlayNoRowsTemplate={overlay}
           onRowClicked={onRowClicked ? (event: RowClickedEvent<Row>) => event.data && onRowClicked(event.data) : undefined}
           getRowClass={getRowClass}
-          onGridReady={onGridReady ? (event) => onGridReady(event.api) : undefined}
+          onGridReady={(event) => {
+            syncSelection();
+            onGridReady?.(event.api);
+          }}
+          onRowDataUpdated={syncSelection}
+          rowSelection={selectable ? SINGLE_ROW : undefined}
           animateRows={false}
           enableCellTextSelection
           ensureDomOrder

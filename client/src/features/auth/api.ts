@@ -1,9 +1,11 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { PublicUser, SignInBody, SignInResponse } from '@shared/schemas/auth';
+import type { PasswordLinkInfo, PasswordResetRequestBody, SetPasswordBody } from '@shared/schemas/users';
 import { api, ApiError } from '../../lib/api';
 
 export const sessionKeys = {
   me: ['session', 'me'] as const,
+  passwordLink: ['session', 'password-link'] as const,
 };
 
 /** The signed-in user, or null when there is no valid session (401). */
@@ -43,4 +45,24 @@ export function useSignOut() {
       queryClient.setQueryData(sessionKeys.me, null);
     },
   });
+}
+
+/** POST /api/auth/password-reset: answers 202 whether or not the address exists (it never tells). */
+export function useRequestPasswordReset() {
+  return useMutation({ mutationFn: (body: PasswordResetRequestBody) => api.post<{ ok: true }>('/auth/password-reset', body) });
+}
+
+/** POST /api/auth/password-link: who the link is for and until when (400 when used, replaced or expired). */
+export function usePasswordLink(token: string | null) {
+  return useQuery({
+    queryKey: [...sessionKeys.passwordLink, token] as const,
+    queryFn: () => api.post<PasswordLinkInfo>('/auth/password-link', { token }),
+    enabled: !!token,
+    staleTime: Infinity,
+  });
+}
+
+/** POST /api/auth/set-password: uses the link once; earlier sessions of that user end. */
+export function useSetPassword() {
+  return useMutation({ mutationFn: (body: SetPasswordBody) => api.post<{ ok: true; email: string }>('/auth/set-password', body) });
 }

@@ -1,0 +1,196 @@
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
+import { readFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { Knex } from 'knex';
+import type { BrowserContext, Page } from 'playwright-core';
+import { launchBrowser, signInThroughUi, startServer } from '../helpers/browser';
+import { unique } from '../helpers/app';
+import { loadConfig } from '../../server/config';
+import { createKnex } from '../../server/db/knex';
+import { startMailSink, type MailSink } from '../../server/mail/sink';
+
+// The admin pages end to end: a real mail sink on a free port receives the invitation the browser triggers.
+let server: Awaited<ReturnType<typeof startServer>>;
+let browser: Awaited<ReturnType<typeof launchBrowser>>;
+let sink: MailSink;
+let sinkKnex: Knex;
+let context: BrowserContext;
+let page: Page;
+
+beforeAll(async () => {
+  const config = loadConfig();
+  sinkKnex = createKnex(config.databaseUrl, { max: 2 });
+  sink = await startMailSink({ port: 0, knex: sinkKnex });
+  server = await startServer({ smtpUrl: `smtp://127.0.0.1:${sink.port}` });
+  browser = await launchBrowser();
+  context = browser.context;
+});
+afterAll(async () => {
+  await browser?.close();
+  await server?.close();
+  await sink?.close();
+  await sinkKnex?.destroy();
+});
+beforeEach(async () => {
+  await context.clearCookies();
+  page = await context.newPage();
+});
+
+async function signInAs(email: string, password: string) {
+  await page.goto(`${server.url}/sign-in`);
+  await page.getByLabel('E-mail').fill(email);
+  await page.getByLabel('Password').fill(password);
+  await page.getByRole('button', { name: 'Sign in' }).click();
+}
+
+describe('users, invitations and the outbox', () => {
+  const email = `${unique('invitee')}@quillfield.example`;
+  const name = 'Rosalind Achterberg';
+  const password = 'a-long-enough-pass';
+
+  it('an admin invites a user, who follows the mailed link, sets a password and signs in', async () => {
+    await signInThroughUi(page, server.url, 'admin');
+    await page.waitForURL((url) => url.pathname === '/users');
+    await page.getByRole('gridcell', { name: 'compliance@quillfield.example' }).waitFor();
+
+    await page.getByRole('button', { name: 'Invite a user' }).click();
+    const form = page.getByRole('form', { name: 'Invite a user' });
+    await form.getByLabel('E-mail').fill(email);
+    await form.getByLabel('Name').fill(name);
+    await form.getByLabel('Role').selectOption('pm');
+    await form.getByRole('button', { name: 'Send invitation' }).click();
+    await page.getByText(`Invitation sent to ${email}`).waitFor();
+    await page.getByRole('gridcell', { name: email }).waitFor();
+    await page.screenshot({ path: join(tmpdir(), 'loadline-users-admin.png') });
+
+    // Inviting the same address again names the field.
+    await page.getByRole('button', { name: 'Invite a user' }).click();
+    await form.getByLabel('E-mail').fill(email.toUpperCase());
+    await form.getByLabel('Name').fill(name);
+    await form.getByRole('button', { name: 'Send invitation' }).click();
+    await form.getByText('is already taken', { exact: true }).waitFor();
+    await form.getByRole('button', { name: 'Cancel' }).click();
+
+    // The outbox shows the message the sink received; its link leads to the set-password page.
+    await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Outbox' }).click();
+    await page.getByLabel('Recipient contains').fill(email);
+    await page.getByRole('gridcell', { name: 'You are invited to Loadline' }).click();
+    const message = page.getByRole('article', { name: 'Message' });
+    await message.getByText(`Hello ${name}`).waitFor();
+    await page.screenshot({ path: join(tmpdir(), 'loadline-outbox-admin.png') });
+    const href = await message.getByRole('link').first().getAttribute('href');
+    const link = new URL(href!);
+    expect(link.pathname).toBe('/set-password');
+
+    await context.clearCookies();
+    await page.goto(`${server.url}${link.pathname}${link.search}`);
+    await page.getByRole('heading', { name: 'Welcome to Loadline' }).waitFor();
+    await page.getByLabel('New password').fill(password);
+    await page.getByLabel('Repeat the password').fill(`${password}x`);
+    await page.getByRole('button', { name: 'Set password' }).click();
+    await page.getByText('the two passwords differ').waitFor();
+    await page.getByLabel('Repeat the password').fill(password);
+    await page.getByRole('button', { name: 'Set password' }).click();
+    await page.waitForURL((url) => url.pathname === '/sign-in');
+
+    await signInAs(email, password);
+    await page.waitForURL((url) => url.pathname === '/home');
+    await expect(page.getByTestId('user-name').textContent()).resolves.toBe(name);
+    await expect(page.getByTestId('user-role').textContent()).resolves.toBe('Portfolio manager');
+
+    // The link worked once only.
+    await context.clearCookies();
+    await page.goto(`${server.url}${link.pathname}${link.search}`);
+    await page.getByRole('alert').getByText('This link is not valid any more', { exact: false }).waitFor();
+    await page.close();
+  });
+
+  it('an admin changes the role and deactivates; the deactivated user cannot sign in', async () => {
+    await signInThroughUi(page, server.url, 'admin');
+    await page.getByRole('gridcell', { name: email }).click();
+    await page.getByLabel('Role').selectOption('compliance');
+    await page.getByRole('button', { name: 'Change role' }).click();
+    await page.getByText(`${name} is now compliance.`).waitFor();
+    await page.getByRole('gridcell', { name: 'Compliance' }).first().waitFor();
+
+    page.once('dialog', (dialog) => void dialog.accept());
+    await page.getByRole('button', { name: 'Deactivate' }).click();
+    await page.getByText(`${name} is deactivated.`).waitFor();
+    await page.getByRole('button', { name: 'Reactivate' }).waitFor();
+
+    await context.clearCookies();
+    await signInAs(email, password);
+    await page.getByRole('alert').waitFor();
+    expect(new URL(page.url()).pathname).toBe('/sign-in');
+    await page.close();
+  });
+
+  it('forgot password: the page confirms and a reset mail reaches the outbox', async () => {
+    await page.goto(`${server.url}/sign-in`);
+    await page.getByRole('link', { name: 'Forgot your password?' }).click();
+    await page.getByLabel('E-mail').fill('analyst2@quillfield.example');
+    await page.getByRole('button', { name: 'Send the link' }).click();
+    await page.getByText('Check your mail').waitFor();
+    // The server mails after answering (so timing tells nothing): wait for the sink to store it.
+    const since = new Date(Date.now() - 60_000);
+    let received = 0;
+    for (let attempt = 0; attempt < 50 && !received; attempt++) {
+      const rows = await sinkKnex('outbox_messages').where({ to_address: 'analyst2@quillfield.example', subject: 'Choose a new Loadline password' }).where('received_at', '>', since);
+      received = rows.length;
+      if (!received) await new Promise((resolve) => setTimeout(resolve, 200));
+    }
+    expect(received).toBe(1);
+    await page.close();
+  });
+});
+
+describe('API tokens', () => {
+  it('an analyst creates a token, sees the secret once, uses it from a script, and revokes it', async () => {
+    await signInThroughUi(page, server.url, 'analyst');
+    await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'API tokens' }).click();
+    const tokenName = unique('nightly export ');
+    await page.getByLabel('Token name').fill(tokenName);
+    await page.getByRole('button', { name: 'Create token' }).click();
+    const secret = (await page.getByTestId('token-secret').textContent())!.trim();
+    expect(secret.length).toBeGreaterThan(20);
+    await page.getByRole('gridcell', { name: tokenName, exact: true }).waitFor();
+    await page.screenshot({ path: join(tmpdir(), 'loadline-tokens-analyst.png') });
+
+    const asScript = () => fetch(`${server.url}/api/auth/me`, { headers: { Authorization: `Bearer ${secret}` } });
+    const before = await asScript();
+    expect(before.status).toBe(200);
+    expect(((await before.json()) as { email: string }).email).toBe('analyst@quillfield.example');
+
+    page.once('dialog', (dialog) => void dialog.accept());
+    await page.getByRole('button', { name: `Revoke ${tokenName}` }).click();
+    await page.getByRole('row', { name: new RegExp(tokenName) }).getByText('Revoked').waitFor();
+    expect((await asScript()).status).toBe(401);
+    await page.close();
+  });
+});
+
+describe('audit log', () => {
+  it('compliance filters the trail by action and exports it as CSV', async () => {
+    await signInThroughUi(page, server.url, 'compliance');
+    await page.waitForURL((url) => url.pathname === '/audit');
+    await page.getByTestId('audit-total').waitFor();
+    const filters = page.getByRole('form', { name: 'Audit filters' });
+    await filters.getByLabel('Action').selectOption('auth.sign-in');
+    await filters.getByLabel('Who (part of the e-mail)').fill('compliance@');
+    await filters.getByRole('button', { name: 'Apply' }).click();
+    await page.waitForURL((url) => url.searchParams.get('action') === 'auth.sign-in');
+    await page.getByRole('gridcell', { name: 'compliance@quillfield.example' }).first().waitFor();
+    const actions = await page.locator('[col-id="action"][role="gridcell"]').allTextContents();
+    expect(actions.length).toBeGreaterThan(0);
+    expect(new Set(actions)).toEqual(new Set(['auth.sign-in']));
+    await page.screenshot({ path: join(tmpdir(), 'loadline-audit-compliance.png') });
+
+    const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Export CSV' }).click()]);
+    const csv = readFileSync((await download.path())!, 'utf8').trim().split('\n');
+    expect(csv[0]).toBe('id,at,actor_id,actor_email,action,object_type,object_id,ip,details');
+    expect(csv.length).toBeGreaterThan(1);
+    expect(csv.slice(1).every((line) => line.includes(',auth.sign-in,') && line.includes('compliance@quillfield.example'))).toBe(true);
+    await page.close();
+  });
+});
