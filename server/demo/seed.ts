@@ -1,6 +1,9 @@
 import type { Knex } from 'knex';
 import { upsertUser } from '../services/authService';
 import { DEMO_USERS } from './users';
+import { seedDemoReturns } from './returns';
+import { join } from 'node:path';
+import { paths } from '../config';
 
 /**
  * Seeds the invented demo (users, then each feature's demo data) into an empty database.
@@ -10,6 +13,8 @@ export async function seedDemo(knex: Knex, log: (message: string) => void = cons
   for (const user of DEMO_USERS) await upsertUser(user);
   log(`[seed] ${DEMO_USERS.length} demo users`);
   void knex;
+  // Return series and asset metadata through the import service (the path uploads take).
+  await seedDemoReturns(knex, process.env.LOADLINE_DATA_DIR ?? join(paths.repoRoot, '.data'), log);
 }
 
 /** True when nothing has been stored yet (no users): the only time the demo is seeded. */
