@@ -70,6 +70,7 @@ export function importRoutes(config: Config) {
       pruneKeptUploads(config.dataDir);
       const { mode, file: _file, ...options } = body;
       const ref = query.ref ?? randomUUID();
+      const signal = abortOnDisconnect(res);
       const outcome = await runImport(database(), {
         filePath: file.path,
         fileName: file.originalname.slice(0, 255),
@@ -80,8 +81,12 @@ export function importRoutes(config: Config) {
         ip: requestIp(req),
         ref,
         dataDir: config.dataDir,
-        signal: abortOnDisconnect(res),
+        signal,
+      }).catch((error) => {
+        if (signal.aborted) return null; // the client left: rolled back, nobody to answer
+        throw error;
       });
+      if (!outcome) return undefined;
       if (outcome.summary.status === 'previewed' && mode === 'preview') await keepUpload(file.path, config.dataDir, ref);
       return answer(res, outcome);
     },
