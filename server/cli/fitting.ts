@@ -1,24 +1,20 @@
 /**
  * The CLI's fit step: checks that the input can support the requested model (with messages naming the problem), then
- * fits it with the engine and reports the log-likelihood of the data at the fitted mean and covariance
- * (Σₜ log N(xₜ; μ̂, Σ̂), missing entries marginalised; this equals −T/2 [N log 2π + log|Σ̂| + tr(Σ̂⁻¹S)] with the 1/T
- * sample covariance S, the convention of scikit-learn's FactorAnalysis.score × T).
+ * calls the engine's fitModel. The reported log-likelihood is that of the data at the fitted mean and covariance,
+ * Σₜ log N(xₜ; μ̂, Σ̂) with missing entries marginalised, which equals −T/2 [N log 2π + log|Σ̂| + tr(Σ̂⁻¹S)] with the
+ * 1/T sample covariance S (scikit-learn's FactorAnalysis.score × T).
  */
 import { InputError, type ReturnsFile } from './csvInput';
-import type { CovarianceModel, FactorModel, MeanHandling, Weighting } from '../engine/types';
-import { describeWeighting, type WeightingSummary } from '../engine/weights';
-import { buildScatter, panelHasMissing } from '../engine/scatter';
-import { fitPpca } from '../engine/ppca';
-import { fitFactorAnalysis } from '../engine/factorAnalysis';
-import { fitWithMissing } from '../engine/missing';
-import { sampleCovariance } from '../engine/sampleCovariance';
-import { ledoitWolf } from '../engine/ledoitWolf';
-import { modelLogLikelihood } from '../engine/logLikelihood';
+import { fitModel, type FitDiagnostics, type FitMethod } from '../engine/fit';
+import { chooseFactorCount } from '../engine/factorCount';
+import { panelHasMissing } from '../engine/scatter';
+import type { CovarianceModel, MeanHandling, Weighting } from '../engine/types';
 
-export type CliMethod = 'fa' | 'ppca' | 'sample' | 'ledoit-wolf';
+export type CliMethod = FitMethod;
 
 export interface CliFitOptions {
   method: CliMethod;
+  /** L for fa/ppca; when absent it is chosen by chooseFactorCount (complete panels only). */
   factors?: number;
   halfLife?: number;
   zeroMean?: boolean;
@@ -27,21 +23,16 @@ export interface CliFitOptions {
 export interface CliFit {
   method: CliMethod;
   model: CovarianceModel;
-  weighting: WeightingSummary;
-  meanHandling: MeanHandling;
-  logLikelihood: number;
-  iterations: number;
-  converged: boolean;
-  /** Method-specific figures (shrinkage, Heywood cases, …), merged into the JSON output. */
-  details: Record<string, unknown>;
-  notes: string[];
+  diagnostics: FitDiagnostics;
+  /** How L was chosen when --factors was not given. */
+  factorChoice: { recommended: number; reason: string } | null;
 }
 
-/** Default number of factors when --factors is not given. */
-export const DEFAULT_FACTORS = 1;
+/** Largest L tried when --factors is omitted. */
+export const MAX_AUTOMATIC_FACTORS = 10;
 
 /** Checks the panel against the request; throws InputError naming the problem. */
-export function validateForFit(file: ReturnsFile, options: CliFitOptions): number | undefined {
+export function validateForFit(file: ReturnsFile, options: CliFitOptions): void {
   const { observations: t, assets: n, values } = file.panel;
   if (t < 2) throw new InputError(`too few observations: the returns file has ${t} date${t === 1 ? '' : 's'}; at least 2 are needed`);
   for (let i = 0; i < n; i++) {
@@ -49,67 +40,30 @@ export function validateForFit(file: ReturnsFile, options: CliFitOptions): numbe
     for (let r = 0; r < t; r++) if (!Number.isNaN(values[r * n + i])) observed++;
     if (observed < 2) throw new InputError(`too few observations for "${file.symbols[i]}": ${observed} non-empty value${observed === 1 ? '' : 's'}; at least 2 are needed`);
   }
-  if (options.method === 'fa' || options.method === 'ppca') {
-    const l = options.factors ?? DEFAULT_FACTORS;
+  if ((options.method === 'fa' || options.method === 'ppca') && options.factors !== undefined) {
+    const l = options.factors;
     if (l >= n) throw new InputError(`--factors ${l} must be smaller than the number of assets (${n})`);
     if (l >= t) throw new InputError(`--factors ${l} needs more than ${l} observations; the returns file has ${t}`);
-    return l;
   }
-  return undefined;
+  if ((options.method === 'fa' || options.method === 'ppca') && options.factors === undefined) {
+    if (n < 2) throw new InputError('a factor model needs at least 2 assets');
+    if (panelHasMissing(file.panel)) throw new InputError('the returns file has empty cells: give --factors L (the automatic choice of L needs a complete panel)');
+  }
 }
 
 export function fitForCli(file: ReturnsFile, options: CliFitOptions): CliFit {
-  const factors = validateForFit(file, options);
+  validateForFit(file, options);
   const panel = file.panel;
   const weighting: Weighting = options.halfLife ? { kind: 'exponential', halfLife: options.halfLife } : { kind: 'equal' };
   const mean: MeanHandling = options.zeroMean ? 'zero' : 'sample';
-  const summary = describeWeighting(panel.observations, weighting);
-  const notes: string[] = [];
-  const base = { method: options.method, weighting: summary, meanHandling: mean };
-
-  if (options.method === 'sample' || options.method === 'ledoit-wolf') {
-    const result = options.method === 'sample' ? sampleCovariance(panel, { weighting, mean }) : ledoitWolf(panel, { weighting, mean });
-    const model: CovarianceModel = { kind: 'dense', method: options.method, assets: panel.assets, mean: result.mean, covariance: result.covariance };
-    if (result.pairwise) notes.push('missing values: pairwise-complete covariance' + (result.repairedToPsd ? ', repaired to the nearest positive semidefinite matrix (Higham 2002)' : ''));
-    let logLikelihood = NaN;
-    try {
-      logLikelihood = modelLogLikelihood(model, panel);
-    } catch (error) {
-      notes.push(`log-likelihood not available: ${(error as Error).message}`);
-    }
-    if (!Number.isFinite(logLikelihood) && panel.observations <= panel.assets) notes.push('the covariance is singular (observations ≤ assets): its Gaussian log-likelihood is not finite');
-    const details: Record<string, unknown> = { pairwise: result.pairwise, repairedToPsd: result.repairedToPsd };
-    if ('shrinkage' in result) details.shrinkage = result.shrinkage;
-    return { ...base, model, logLikelihood, iterations: 0, converged: true, details, notes };
+  let factors = options.factors;
+  let factorChoice: CliFit['factorChoice'] = null;
+  if ((options.method === 'fa' || options.method === 'ppca') && factors === undefined) {
+    const maxFactors = Math.min(MAX_AUTOMATIC_FACTORS, panel.assets - 1, panel.observations - 1);
+    const choice = chooseFactorCount(panel, { maxFactors, mean });
+    factors = choice.recommended;
+    factorChoice = { recommended: choice.recommended, reason: choice.reason };
   }
-
-  const l = factors!;
-  const method = options.method;
-  let loadings: Float64Array;
-  let specificVariance: Float64Array;
-  let fittedMean: Float64Array;
-  let iterations = 0;
-  let converged = true;
-  const details: Record<string, unknown> = {};
-  if (panelHasMissing(panel)) {
-    const result = fitWithMissing(panel, { method, factors: l, weighting, mean });
-    ({ loadings, specificVariance, mean: fittedMean, iterations, converged } = result);
-    details.heywood = method === 'fa' ? file.symbols.filter((_, i) => result.heywood[i]) : [];
-    notes.push(`missing values: ${result.missingEntries} entries on ${result.incompleteDates} dates, handled by EM with missing data`);
-  } else {
-    const scatter = buildScatter(panel, { weighting, mean });
-    fittedMean = scatter.mean;
-    if (method === 'ppca') {
-      const result = fitPpca(scatter, l);
-      loadings = result.loadings;
-      specificVariance = new Float64Array(panel.assets).fill(result.noiseVariance);
-      details.noiseVariance = result.noiseVariance;
-    } else {
-      const result = fitFactorAnalysis(scatter, l);
-      ({ loadings, specificVariance, iterations, converged } = result);
-      details.heywood = file.symbols.filter((_, i) => result.heywood[i]);
-    }
-  }
-  const model: FactorModel = { kind: 'factor', method, assets: panel.assets, factors: l, mean: fittedMean, loadings, specificVariance };
-  return { ...base, model, logLikelihood: modelLogLikelihood(model, panel), iterations, converged, details, notes };
+  const { model, diagnostics } = fitModel(panel, { method: options.method, factors, weighting, mean });
+  return { method: options.method, model, diagnostics, factorChoice };
 }

@@ -101,29 +101,37 @@ function toRows(a: Float64Array, rows: number, cols: number): (number | null)[][
 }
 
 function fitJson(file: ReturnsFile, fit: CliFit) {
-  const { model } = fit;
+  const { model, diagnostics: d } = fit;
   const n = model.assets;
   const factorModel = model.kind === 'factor' ? model : null;
   return {
     method: fit.method,
     factors: factorModel ? factorModel.factors : null,
-    observations: file.panel.observations,
+    observations: d.observations,
     assets: file.symbols,
     firstDate: file.dates[0],
     lastDate: file.dates[file.dates.length - 1],
-    missingCells: file.missingCells,
-    weighting: fit.weighting,
-    meanHandling: fit.meanHandling,
     mean: toArray(model.mean),
     loadings: factorModel ? toRows(factorModel.loadings, n, factorModel.factors) : null,
     loadingsOrientation: factorModel ? 'canonical: WᵀΨ⁻¹W diagonal, columns by decreasing variance, largest loading of each column positive' : null,
     specificVariance: factorModel ? toArray(factorModel.specificVariance) : null,
     covariance: model.kind === 'dense' ? toRows(model.covariance, n, n) : null,
-    logLikelihood: Number.isFinite(fit.logLikelihood) ? fit.logLikelihood : null,
-    iterations: fit.iterations,
-    converged: fit.converged,
-    ...fit.details,
-    notes: fit.notes,
+    logLikelihood: d.logLikelihood,
+    iterations: d.iterations,
+    converged: d.converged,
+    evaluations: d.evaluations,
+    logLikelihoodTrace: d.trace,
+    heywood: file.symbols.filter((_, i) => d.heywood[i]),
+    noiseVariance: d.noiseVariance ?? null,
+    shrinkage: d.shrinkage ?? null,
+    spectrum: d.spectrum,
+    weighting: d.weighting,
+    meanHandling: d.mean,
+    missingCells: file.missingCells,
+    missingPolicy: d.missingPolicy,
+    incompleteDates: d.incompleteDates,
+    factorChoice: fit.factorChoice,
+    flags: d.flags,
   };
 }
 
@@ -153,7 +161,8 @@ function riskJson(file: ReturnsFile, fit: CliFit, weights: Float64Array, benchma
       ? { factorVarianceShare: risk.exposure.factorVarianceShare, exposureNorm: risk.exposure.exposureNorm, exposures: toArray(risk.exposure.exposures), caveat: risk.exposure.caveat }
       : null,
     assumptions: risk.assumptions,
-    fit: { logLikelihood: Number.isFinite(fit.logLikelihood) ? fit.logLikelihood : null, iterations: fit.iterations, converged: fit.converged },
+    fit: { logLikelihood: fit.diagnostics.logLikelihood, iterations: fit.diagnostics.iterations, converged: fit.diagnostics.converged, flags: fit.diagnostics.flags },
+    factorChoice: fit.factorChoice,
   };
 }
 

@@ -108,9 +108,17 @@ describe('npm run cli -- fit', () => {
     expect(r.status).toBe(0);
     const out = JSON.parse(r.stdout);
     expect(out.missingCells).toBe(17);
-    expect(out.notes.join(' ')).toMatch(/missing/);
+    expect(out.missingPolicy).toBe('em');
+    expect(out.incompleteDates).toBe(17);
     expect(Number.isFinite(out.logLikelihood)).toBe(true);
     expect(out.converged).toBe(true);
+  });
+
+  it('chooses L when --factors is omitted and says why', () => {
+    const out = fit(['--method', 'fa']);
+    expect(out.factorChoice.recommended).toBe(out.factors);
+    expect(out.factors).toBeGreaterThanOrEqual(1);
+    expect(out.factorChoice.reason.length).toBeGreaterThan(0);
   });
 
   it('applies exponential weights and zero mean', () => {
