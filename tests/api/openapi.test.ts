@@ -23,7 +23,7 @@ afterAll(() => ctx.close());
 describe('OpenAPI document', () => {
   it('is a valid OpenAPI 3.0 document (checked against the official schema)', async () => {
     const validator = new Validator();
-    const result = await validator.validate(doc as unknown as object);
+    const result = await validator.validate(doc as unknown as Record<string, unknown>);
     expect(result.errors ?? [], JSON.stringify(result.errors, null, 1)?.slice(0, 2000)).toEqual([]);
     expect(result.valid).toBe(true);
     expect(doc.openapi).toMatch(/^3\.0\./);
