@@ -1,234 +1,203 @@
 /**
  * The computation of one model run: a panel and the run's parameters in, the fitted model and its diagnostics out.
- * Pure (no I/O): the fit thread (fitThreadMain.ts) and the demo seed call it.
+ * Pure (no I/O): the fit thread (fitThreadMain.ts) and the demo seed call it. The estimation is the engine's
+ * fitModel (server/engine/fit.ts); the number of factors, when asked to recommend, is the engine's chooseFactorCount.
  */
-import type { CovarianceModel, FactorModel, FitProgress, ReturnsPanel, Weighting } from '../engine/types';
-import { buildScatter, panelHasMissing } from '../engine/scatter';
-import { fitFactorAnalysis } from '../engine/factorAnalysis';
-import { fitPpca, topSpectrum } from '../engine/ppca';
-import { sampleCovariance } from '../engine/sampleCovariance';
-import { ledoitWolf } from '../engine/ledoitWolf';
+import type { CovarianceModel, FitProgress, ReturnsPanel, Weighting } from '../engine/types';
+import { fitModel, type MissingPolicy } from '../engine/fit';
+import { chooseFactorCount } from '../engine/factorCount';
+import { panelHasMissing } from '../engine/scatter';
 import { factorScores } from '../engine/scores';
-import { modelLogLikelihood } from '../engine/logLikelihood';
-import { describeWeighting } from '../engine/weights';
 import { communalities } from '../engine/rotation';
 import type { ModelDiagnostics, ModelRunParameters } from '../../shared/schemas/modelRuns';
-import { MAX_FACTORS } from '../../shared/schemas/modelRuns';
 
 export interface FitComputation {
   model: CovarianceModel;
   factorScores: Float64Array | null;
   logLikelihood: number | null;
   diagnostics: ModelDiagnostics;
-  /** Seconds spent in the engine proper (fit, spectrum, scores). */
+  /** Seconds spent in the engine (factor count, fit, factor scores). */
   engineSeconds: number;
 }
 
+/** Largest L the recommendation searches (each L costs one FA fit, plus one per held-out block). */
+export const RECOMMEND_MAX_FACTORS = 10;
 /** How many eigenvalues the scree plot shows. */
 const SPECTRUM_SIZE = 20;
+
+/** Stage names for the progress bar, in order, with the share of the work done when each starts. */
+export const STAGES: Record<string, { label: string; from: number; to: number }> = {
+  'factor-count': { label: 'choosing the number of factors', from: 0.05, to: 0.45 },
+  'factor-analysis': { label: 'factor analysis (EM)', from: 0.45, to: 0.9 },
+  'factor-analysis-missing': { label: 'factor analysis with missing data (EM)', from: 0.45, to: 0.9 },
+  'ppca-missing': { label: 'probabilistic PCA with missing data (EM)', from: 0.45, to: 0.9 },
+  fit: { label: 'fitting', from: 0.1, to: 0.85 },
+  'factor scores': { label: 'factor scores', from: 0.9, to: 0.95 },
+};
+
+/** Rows where every asset is observed (for the factor-count table, which needs a complete panel). */
+function completeRows(panel: ReturnsPanel): ReturnsPanel {
+  const { values, observations: t, assets: n } = panel;
+  const rows: number[] = [];
+  for (let r = 0; r < t; r++) {
+    let ok = true;
+    for (let i = 0; i < n && ok; i++) if (Number.isNaN(values[r * n + i])) ok = false;
+    if (ok) rows.push(r);
+  }
+  const out = new Float64Array(rows.length * n);
+  rows.forEach((r, k) => out.set(values.subarray(r * n, (r + 1) * n), k * n));
+  return { values: out, observations: rows.length, assets: n };
+}
+
+/**
+ * Bulk variance and Marchenko–Pastur edge σ²(1 + √(N/T))² (Marchenko & Pastur 1967) from the top eigenvalues,
+ * σ² fitted by iterating σ² = (tr S − Σ_{λ > edge} λ)/(N − #above) from tr S / N (as the engine's factorCount.ts does;
+ * Laloux et al. 2000 fit the bulk similarly).
+ */
+export function marchenkoPastur(eigenvalues: number[], trace: number, n: number, t: number): { edge: number; bulkVariance: number } {
+  let sigma2 = trace / n;
+  for (let it = 0; it < 50; it++) {
+    const edge = sigma2 * (1 + Math.sqrt(n / t)) ** 2;
+    let k = 0;
+    let top = 0;
+    while (k < eigenvalues.length && eigenvalues[k] > edge) top += eigenvalues[k++];
+    const next = (trace - top) / (n - k);
+    if (!(next > 0) || Math.abs(next - sigma2) <= 1e-14 * sigma2) break;
+    sigma2 = next;
+  }
+  return { edge: sigma2 * (1 + Math.sqrt(n / t)) ** 2, bulkVariance: sigma2 };
+}
+
+/** Weighted trace of the 1/T covariance over observed entries (for the bulk variance when no factor-count table ran). */
+function observedTrace(panel: ReturnsPanel, mean: Float64Array): number {
+  const { values, observations: t, assets: n } = panel;
+  const sums = new Float64Array(n);
+  const counts = new Float64Array(n);
+  for (let r = 0; r < t; r++) {
+    for (let i = 0; i < n; i++) {
+      const v = values[r * n + i];
+      if (Number.isNaN(v)) continue;
+      sums[i] += (v - mean[i]) ** 2;
+      counts[i]++;
+    }
+  }
+  let trace = 0;
+  for (let i = 0; i < n; i++) trace += counts[i] > 0 ? sums[i] / counts[i] : 0;
+  return trace;
+}
 
 /** Fits the run. `onProgress` may throw to stop (cancellation). */
 export function computeModelRun(panel: ReturnsPanel, parameters: ModelRunParameters, onProgress: (p: FitProgress) => void = () => {}): FitComputation {
   const started = performance.now();
-  const { assets: n, observations: t } = panel;
+  const { assets: n } = panel;
   const weighting: Weighting = parameters.weighting.kind === 'exponential' ? { kind: 'exponential', halfLife: parameters.weighting.halfLife } : { kind: 'equal' };
-  const options = { weighting, mean: parameters.mean } as const;
-  const weightingSummary = describeWeighting(t, weighting);
+  const isFactor = parameters.estimator === 'fa' || parameters.estimator === 'ppca';
   const hasMissing = panelHasMissing(panel);
-  let missingMethod = 'none (complete panel)';
+  const control = { onProgress };
 
-  const estimator = parameters.estimator;
-  const common: ModelDiagnostics = {
-    effectiveSampleSize: weightingSummary.effectiveSampleSize,
-    decayFactor: weighting.kind === 'exponential' ? weightingSummary.decay : null,
+  let factors = 0;
+  let recommendation: Pick<ModelDiagnostics, 'criteria' | 'recommendedFactors' | 'recommendationReason'> & { edge?: number; bulk?: number; eigenvalues?: number[] } = {
+    criteria: null,
+    recommendedFactors: null,
+    recommendationReason: null,
   };
-
-  if (estimator === 'sample' || estimator === 'ledoit-wolf') {
-    onProgress({ stage: estimator === 'sample' ? 'sample covariance' : 'Ledoit–Wolf shrinkage', iteration: 0 });
-    let model: CovarianceModel;
-    const extra: Record<string, unknown> = {};
-    if (estimator === 'sample') {
-      const s = sampleCovariance(panel, options);
-      model = { kind: 'dense', method: 'sample', assets: n, mean: s.mean, covariance: s.covariance };
-      if (s.pairwise) missingMethod = s.repairedToPsd ? 'pairwise-complete, repaired to the nearest PSD matrix (Higham 2002)' : 'pairwise-complete';
-      Object.assign(extra, { pairwise: s.pairwise, repairedToPsd: s.repairedToPsd, minimumPairObservations: s.minimumPairObservations });
+  if (isFactor) {
+    if (parameters.factors === 'recommend') {
+      onProgress({ stage: 'factor-count', iteration: 0 });
+      const complete = hasMissing ? completeRows(panel) : panel;
+      const maxFactors = Math.min(RECOMMEND_MAX_FACTORS, n - 1);
+      if (complete.observations < Math.max(30, maxFactors + 2)) {
+        throw new Error(`Choosing the number of factors needs dates on which every asset is observed: only ${complete.observations} such dates; give the number of factors instead`);
+      }
+      const feasibleBlocks = complete.observations - Math.floor(complete.observations / 5) >= n / 4 + 2 ? 5 : 0;
+      const count = chooseFactorCount(complete, { maxFactors, mean: parameters.mean, heldOutBlocks: feasibleBlocks, tolerance: 1e-8 }, { onProgress: (p) => onProgress({ ...p, stage: 'factor-count' }) });
+      factors = count.recommended;
+      recommendation = {
+        criteria: count.rows.map((r) => ({
+          factors: r.factors,
+          logLikelihood: r.logLikelihood,
+          aic: r.aic,
+          bic: r.bic,
+          extra: { parameters: r.parameters, baiNgIcp2: r.baiNgIcp2, eigenvalueRatio: Number.isFinite(r.eigenvalueRatio) ? r.eigenvalueRatio : null, heldOutLogLikelihood: r.heldOutLogLikelihood },
+        })),
+        recommendedFactors: count.recommended,
+        recommendationReason: count.reason + (hasMissing ? ` (criteria computed on the ${complete.observations} dates with every asset observed)` : ''),
+        edge: count.marchenkoPasturEdge,
+        bulk: count.bulkVariance,
+        eigenvalues: count.eigenvalues,
+      };
     } else {
-      const lw = ledoitWolf(panel, options);
-      model = { kind: 'dense', method: 'ledoit-wolf', assets: n, mean: lw.mean, covariance: lw.covariance };
-      if (lw.pairwise) missingMethod = 'pairwise-complete 1/T estimate' + (lw.repairedToPsd ? ', repaired to PSD' : '');
-      Object.assign(extra, { shrinkage: lw.shrinkage, shrinkageTarget: lw.target });
+      factors = parameters.factors ?? 1;
     }
-    onProgress({ stage: 'diagnostics', iteration: 0 });
-    const eigenvalues = denseTopEigenvalues(model.covariance, n, Math.min(SPECTRUM_SIZE, n));
-    let totalVariance = 0;
-    for (let i = 0; i < n; i++) totalVariance += model.covariance[i * n + i];
-    const ll = safeLogLikelihood(model, panel);
-    return {
-      model,
-      factorScores: null,
-      logLikelihood: ll,
-      engineSeconds: (performance.now() - started) / 1000,
-      diagnostics: {
-        ...common,
-        ...extra,
-        logLikelihoodTrace: ll === null ? [] : [ll],
-        iterations: 0,
-        converged: true,
-        heywood: new Array(n).fill(false),
-        eigenvalues,
-        marchenkoPasturEdge: marchenkoPasturEdge(totalVariance / n, n, weightingSummary.effectiveSampleSize),
-        noiseVariance: null,
-        totalVariance,
-        factorVariance: null,
-        explainedShare: null,
-        criteria: null,
-        recommendedFactors: null,
-        recommendationReason: null,
-        missingMethod,
-      },
-    };
   }
 
-  // Factor models.
-  if (hasMissing) {
-    throw new Error('The panel has missing values and this engine build fits factor models on complete panels only: choose the missing-data policy "complete-rows" or "drop-assets"');
-  }
-  onProgress({ stage: 'scatter', iteration: 0 });
-  const maxFactors = Math.min(MAX_FACTORS, n - 1, t - 1);
-  let factors: number;
-  let recommendation: { factors: number; reason: string; criteria: ModelDiagnostics['criteria'] } | null = null;
-  const scatter = buildScatter(panel, { ...options, blockWidth: 10, expectedApplications: 200 });
-  const spectrumSize = Math.min(Math.max(SPECTRUM_SIZE, maxFactors + 1), n);
-  onProgress({ stage: 'spectrum', iteration: 0 });
-  const spectrum = topSpectrum(scatter, spectrumSize);
-  if (parameters.factors === 'recommend') {
-    recommendation = recommendFactors(Array.from(spectrum.values), scatter.trace, n, weightingSummary.effectiveSampleSize, maxFactors);
-    factors = recommendation.factors;
-  } else {
-    factors = parameters.factors ?? 1;
-  }
-  if (factors >= n) throw new Error(`The number of factors (${factors}) must be below the number of assets (${n})`);
+  const engineMissing: MissingPolicy = isFactor ? 'em' : 'pairwise';
+  onProgress({ stage: 'fit', iteration: 0 });
+  const fit = fitModel(panel, { method: parameters.estimator, factors: isFactor ? factors : undefined, weighting, mean: parameters.mean, missing: engineMissing, spectrumSize: Math.min(n, SPECTRUM_SIZE) }, control);
+  const { model, diagnostics: d } = fit;
 
-  let model: FactorModel;
-  let ll: number;
-  let trace: number[];
-  let iterations = 0;
-  let evaluations: number | null = null;
-  let converged = true;
-  let heywood: boolean[] = new Array(n).fill(false);
-  let noiseVariance: number | null = null;
-  if (estimator === 'ppca') {
-    onProgress({ stage: 'probabilistic PCA', iteration: 0 });
-    const p = fitPpca(scatter, factors);
-    noiseVariance = p.noiseVariance;
-    model = { kind: 'factor', method: 'ppca', assets: n, factors, mean: scatter.mean, loadings: p.loadings, specificVariance: new Float64Array(n).fill(p.noiseVariance) };
-    ll = p.logLikelihood;
-    trace = [ll];
-  } else {
-    onProgress({ stage: 'factor analysis', iteration: 0 });
-    const fa = fitFactorAnalysis(scatter, factors, {}, { onProgress: (p) => onProgress({ ...p, stage: 'factor analysis' }) });
-    model = { kind: 'factor', method: 'fa', assets: n, factors, mean: scatter.mean, loadings: fa.loadings, specificVariance: fa.specificVariance };
-    ll = fa.logLikelihood;
-    trace = fa.trace;
-    iterations = fa.iterations;
-    evaluations = fa.evaluations;
-    converged = fa.converged;
-    heywood = fa.heywood;
-  }
-  onProgress({ stage: 'factor scores', iteration: iterations, logLikelihood: ll });
-  const scores = factorScores(model, panel).scores;
-  const h = communalities(model);
-  let factorVariance = 0;
+  let scores: Float64Array | null = null;
+  let factorVariance: number | null = null;
   let totalVariance = 0;
-  for (let i = 0; i < n; i++) {
-    factorVariance += h[i];
-    totalVariance += h[i] + model.specificVariance[i];
+  if (model.kind === 'factor') {
+    onProgress({ stage: 'factor scores', iteration: d.iterations, logLikelihood: d.logLikelihood ?? undefined });
+    scores = factorScores(model, panel).scores;
+    const h = communalities(model);
+    factorVariance = 0;
+    for (let i = 0; i < n; i++) {
+      factorVariance += h[i];
+      totalVariance += h[i] + model.specificVariance[i];
+    }
+  } else {
+    for (let i = 0; i < n; i++) totalVariance += model.covariance[i * n + i];
   }
-  const noiseForEdge = noiseVariance ?? (scatter.trace - sum(Array.from(spectrum.values).slice(0, factors))) / (n - factors);
+  const eigenvalues = d.spectrum.length ? d.spectrum : (recommendation.eigenvalues ?? []);
+  let edge = recommendation.edge ?? null;
+  let bulk = recommendation.bulk ?? null;
+  if (edge === null && eigenvalues.length) {
+    const mp = marchenkoPastur(eigenvalues, hasMissing ? observedTrace(panel, model.mean) : totalTraceOfScatter(model, totalVariance), n, d.effectiveSampleSize);
+    edge = mp.edge;
+    bulk = mp.bulkVariance;
+  }
+  const { edge: _e, bulk: _b, eigenvalues: _ev, ...criteria } = recommendation;
+  void _e;
+  void _b;
+  void _ev;
   return {
     model,
     factorScores: scores,
-    logLikelihood: ll,
+    logLikelihood: d.logLikelihood,
     engineSeconds: (performance.now() - started) / 1000,
     diagnostics: {
-      ...common,
-      logLikelihoodTrace: trace,
-      iterations,
-      evaluations,
-      converged,
-      heywood,
-      eigenvalues: Array.from(spectrum.values),
-      marchenkoPasturEdge: marchenkoPasturEdge(noiseForEdge, n, weightingSummary.effectiveSampleSize),
-      noiseVariance,
+      logLikelihoodTrace: d.trace,
+      iterations: d.iterations,
+      evaluations: d.evaluations,
+      converged: d.converged,
+      heywood: d.heywood,
+      eigenvalues,
+      marchenkoPasturEdge: edge,
+      bulkVariance: bulk,
+      noiseVariance: d.noiseVariance ?? null,
+      effectiveSampleSize: d.effectiveSampleSize,
+      decayFactor: d.weighting.kind === 'exponential' ? d.weighting.decay : null,
+      halfLife: d.weighting.halfLife,
       totalVariance,
       factorVariance,
-      explainedShare: totalVariance > 0 ? factorVariance / totalVariance : null,
-      criteria: recommendation?.criteria ?? null,
-      recommendedFactors: recommendation?.factors ?? null,
-      recommendationReason: recommendation?.reason ?? null,
-      missingMethod,
+      explainedShare: factorVariance !== null && totalVariance > 0 ? factorVariance / totalVariance : null,
+      ...criteria,
+      missingMethod: d.missingPolicy === 'none' ? 'none (complete panel)' : d.missingPolicy === 'em' ? 'EM over the observed entries' : 'pairwise-complete covariance',
+      missingEntries: d.missingEntries,
+      incompleteDates: d.incompleteDates,
+      shrinkage: d.shrinkage ?? null,
+      flags: d.flags,
     },
   };
 }
 
-const sum = (xs: number[]) => xs.reduce((a, b) => a + b, 0);
-
-/** Marchenko–Pastur upper edge σ²(1 + √(N/T))² (Marchenko & Pastur 1967): eigenvalues of pure noise stay below it. */
-export function marchenkoPasturEdge(noiseVariance: number, n: number, t: number): number {
-  return noiseVariance * (1 + Math.sqrt(n / t)) ** 2;
-}
-
-function safeLogLikelihood(model: CovarianceModel, panel: ReturnsPanel): number | null {
-  try {
-    const v = modelLogLikelihood(model, panel);
-    return Number.isFinite(v) ? v : null;
-  } catch {
-    return null; // singular sample covariance (N ≥ T): no finite likelihood
-  }
-}
-
-function denseTopEigenvalues(covariance: Float64Array, n: number, k: number): number[] {
-  const scatterLike = {
-    size: n,
-    observations: n,
-    diagonal: new Float64Array(n),
-    trace: 0,
-    mean: new Float64Array(n),
-    weights: new Float64Array(0),
-    effectiveSampleSize: 0,
-    dense: covariance,
-    apply: () => new Float64Array(0),
-  };
-  return Array.from(topSpectrum(scatterLike as never, k).values);
-}
-
 /**
- * Interim recommendation from the eigenvalue spectrum (until the engine's criteria table is wired in):
- * PPCA log-likelihood, AIC and BIC for L = 1 … Lmax from the eigenvalues (Tipping & Bishop 1999, eq. 4), the
- * Ahn & Horenstein (2013) eigenvalue ratio, and the count of eigenvalues above the Marchenko–Pastur edge.
+ * tr S for the edge: for the sample covariance and the fitted models tr Σ̂ ≈ tr S (FA reproduces the diagonal of S
+ * exactly at the optimum; PPCA its trace; the sample covariance is S). Ledoit–Wolf keeps tr S too (shrinkage to μI).
  */
-function recommendFactors(eigenvalues: number[], trace: number, n: number, t: number, maxFactors: number) {
-  const criteria: NonNullable<ModelDiagnostics['criteria']> = [];
-  const log2pi = Math.log(2 * Math.PI);
-  let best = { l: 1, bic: Infinity };
-  for (let l = 1; l <= Math.min(maxFactors, eigenvalues.length - 1); l++) {
-    const top = sum(eigenvalues.slice(0, l));
-    const sigma2 = (trace - top) / (n - l);
-    let logDet = (n - l) * Math.log(sigma2);
-    for (let j = 0; j < l; j++) logDet += Math.log(Math.max(eigenvalues[j], sigma2));
-    const ll = -0.5 * t * (n * log2pi + logDet + n);
-    const k = n * l - (l * (l - 1)) / 2 + 1 + n; // loadings up to rotation, σ², means
-    const aic = -2 * ll + 2 * k;
-    const bic = -2 * ll + Math.log(t) * k;
-    const ratio = eigenvalues[l] > 0 ? eigenvalues[l - 1] / eigenvalues[l] : null;
-    criteria.push({ factors: l, logLikelihood: ll, aic, bic, extra: { eigenvalueRatio: ratio } });
-    if (bic < best.bic) best = { l, bic };
-  }
-  let ahn = criteria[0];
-  for (const row of criteria) if ((row.extra?.eigenvalueRatio ?? 0) > (ahn.extra?.eigenvalueRatio ?? 0)) ahn = row;
-  const edge = marchenkoPasturEdge(trace / n, n, t);
-  const aboveEdge = eigenvalues.filter((v) => v > edge).length;
-  const factors = Math.max(1, Math.min(best.l, maxFactors));
-  const reason = `BIC is lowest at L = ${best.l} among L = 1 … ${criteria.length}; the Ahn–Horenstein eigenvalue ratio peaks at L = ${ahn.factors}; ${aboveEdge} eigenvalue${aboveEdge === 1 ? '' : 's'} lie above the Marchenko–Pastur edge.`;
-  return { factors, reason, criteria };
+function totalTraceOfScatter(_model: CovarianceModel, totalVariance: number): number {
+  return totalVariance;
 }

@@ -16,6 +16,7 @@ import { insertModelResult, panelSha256 } from '../services/modelStore';
 import { MODEL_FIT_QUEUE, MODEL_FIT_QUEUE_OPTIONS, ensureModelFitQueue, type ModelFitJob } from '../services/modelQueue';
 import { FitCancelled, runFit, warmFitThread } from './fitPool';
 import type { FitProgress } from '../engine/types';
+import { STAGES } from './fitCompute';
 
 export interface ModelJobOptions {
   /** Heartbeat period while a fit runs (ms). */
@@ -31,30 +32,16 @@ export interface ModelJobOptions {
 
 const db = (): Knex => Model.knex();
 
-/** Rough share of the work done, for the progress bar: stages in order, EM iterations approach the end of 'fit'. */
+/** Share of the work done, for the progress bar: each engine stage spans a range; EM iterations approach its end. */
 function fractionOf(p: FitProgress): number {
-  switch (p.stage) {
-    case 'loading data':
-      return 0.03;
-    case 'scatter':
-    case 'sample covariance':
-    case 'Ledoit–Wolf shrinkage':
-      return 0.1;
-    case 'spectrum':
-      return 0.2;
-    case 'probabilistic PCA':
-      return 0.4;
-    case 'factor analysis':
-      return 0.3 + 0.55 * (1 - Math.exp(-p.iteration / 25));
-    case 'factor scores':
-    case 'diagnostics':
-      return 0.9;
-    case 'storing':
-      return 0.96;
-    default:
-      return 0.05;
-  }
+  if (p.stage === 'loading data') return 0.03;
+  if (p.stage === 'storing') return 0.96;
+  const stage = STAGES[p.stage];
+  if (!stage) return 0.05;
+  return stage.from + (stage.to - stage.from) * (1 - Math.exp(-p.iteration / 25));
 }
+
+const stageLabel = (stage: string) => STAGES[stage]?.label ?? stage;
 
 export async function runModelFitJob(job: PgBoss.Job<ModelFitJob>, options: ModelJobOptions = {}): Promise<void> {
   const heartbeatMs = options.heartbeatMs ?? 1000;
@@ -92,7 +79,7 @@ export async function runModelFitJob(job: PgBoss.Job<ModelFitJob>, options: Mode
       const rows = await mine()
         .update({
           heartbeat_at: db().fn.now(),
-          progress_stage: latest.stage,
+          progress_stage: stageLabel(latest.stage),
           progress_iteration: latest.iteration,
           progress_log_likelihood: Number.isFinite(latest.logLikelihood ?? NaN) ? latest.logLikelihood : null,
           progress_fraction: fractionOf(latest),

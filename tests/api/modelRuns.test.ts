@@ -213,7 +213,8 @@ describe('model runs with a worker', () => {
     });
     expect(done.status).toBe('succeeded');
     const secondResults = await request(ctx.app).get(`/api/model-runs/${second.body.id}/results`).set('Authorization', `Bearer ${tokens.analyst}`);
-    expect(secondResults.body.diagnostics.recommendationReason).toMatch(/BIC/);
+    expect(secondResults.body.diagnostics.recommendationReason).toMatch(/L = \d+/);
+    expect(secondResults.body.factors).toBe(secondResults.body.diagnostics.recommendedFactors);
     expect(secondResults.body.diagnostics.criteria.length).toBeGreaterThan(1);
     const compare = await request(ctx.app).get(`/api/model-runs/${created.body.id}/compare?with=${second.body.id}`).set('Authorization', `Bearer ${tokens.analyst}`);
     expect(compare.status).toBe(200);
@@ -257,7 +258,7 @@ describe('model runs with a worker', () => {
       .send({ universe: { kind: 'assets', symbols }, window: { kind: 'last', observations: t }, estimator: 'fa', factors: 12 });
     expect(created.status).toBe(201);
     // Cancel in the middle of the EM iterations (the fit thread is stopped, not merely left to finish).
-    await waitFor('the EM iterations to start', async () => (await getRun(created.body.id)).body.progress.stage === 'factor analysis', 60_000, 10);
+    await waitFor('the EM iterations to start', async () => (await getRun(created.body.id)).body.progress.stage === 'factor analysis (EM)', 60_000, 10);
     const cancel = await request(ctx.app).post(`/api/model-runs/${created.body.id}/cancel`).set('Authorization', `Bearer ${tokens.analyst2}`);
     expect(cancel.status).toBe(200);
     const finished = await waitFor('the run to stop', async () => {

@@ -1,0 +1,74 @@
+import { useMemo } from 'react';
+import { Link, useSearchParams } from 'react-router-dom';
+import type { ColDef } from 'ag-grid-community';
+import type { ModelComparison } from '@shared/schemas/modelRuns';
+import { PageHeader } from '../../components/PageHeader';
+import { Card } from '../../components/Card';
+import { Alert, ErrorAlert } from '../../components/Alert';
+import { Caution } from '../../components/Caution';
+import { DataGrid } from '../../components/DataGrid';
+import { formatNumber } from '../../components/Figure';
+import { useCompareRuns } from './api';
+
+type Row = ModelComparison['assets'][number];
+
+const pct = (v: number | null | undefined) => (v === null || v === undefined ? null : v * 100);
+const fmt = (digits: number, signed = false) => (p: { value: number | null }) => (p.value === null || p.value === undefined ? '—' : formatNumber(p.value, digits, signed));
+const sci = (p: { value: number | null }) => (p.value === null || p.value === undefined ? '—' : Number(p.value).toExponential(3));
+
+/** Two model versions side by side: how far their loading subspaces are apart and how each asset changed. */
+export default function ComparePage() {
+  const [params] = useSearchParams();
+  const first = params.get('first') ? Number(params.get('first')) : null;
+  const second = params.get('second') ? Number(params.get('second')) : null;
+  const compare = useCompareRuns(first, second);
+  const c = compare.data;
+  const columns = useMemo<ColDef<Row>[]>(
+    () => [
+      { field: 'symbol', headerName: 'Symbol', pinned: 'left', cellClass: 'll-figure', minWidth: 110 },
+      { field: 'communalityFirst', headerName: `Communality ${c?.first.label ?? 'A'}`, type: 'figure', valueFormatter: sci },
+      { field: 'communalitySecond', headerName: `Communality ${c?.second.label ?? 'B'}`, type: 'figure', valueFormatter: sci },
+      { field: 'communalityChange', headerName: 'Change', type: 'figure', valueFormatter: sci },
+      { headerName: `Specific vol ${c?.first.label ?? 'A'} (%)`, type: 'figure', valueGetter: (p) => pct(p.data?.specificVolFirst), valueFormatter: fmt(2) },
+      { headerName: `Specific vol ${c?.second.label ?? 'B'} (%)`, type: 'figure', valueGetter: (p) => pct(p.data?.specificVolSecond), valueFormatter: fmt(2) },
+      { headerName: 'Change (pp)', type: 'figure', valueGetter: (p) => pct(p.data?.specificVolChange), valueFormatter: fmt(2, true) },
+    ],
+    [c],
+  );
+  return (
+    <div className="flex flex-col gap-4">
+      <PageHeader title="Compare model versions" description={c ? `${c.first.label} against ${c.second.label}` : 'Choose two succeeded runs on the Models page.'} actions={<Link className="text-sm text-accent hover:underline" to="/models">All models</Link>} />
+      {first === null || second === null || first === second ? <Alert tone="info">Choose two different versions to compare.</Alert> : null}
+      {compare.isError ? <ErrorAlert error={compare.error} /> : null}
+      {c ? (
+        <>
+          <Card title="Principal angles between the loading subspaces">
+            {c.principalAnglesDegrees ? (
+              <div className="flex flex-col gap-2">
+                <ul className="flex flex-wrap gap-3 font-mono text-sm tabular-nums" aria-label="Principal angles">
+                  {c.principalAnglesDegrees.map((a, k) => (
+                    <li key={k} className="rounded-md border border-line bg-sunken px-2 py-1">
+                      θ{k + 1} = {formatNumber(a, 2)}°
+                    </li>
+                  ))}
+                </ul>
+                <p className="text-xs text-ink-soft">{c.note}</p>
+              </div>
+            ) : (
+              <p className="text-sm text-ink-soft">At least one of the two is a dense covariance (sample or Ledoit–Wolf): there is no loading subspace to compare.</p>
+            )}
+            <p className="mt-2 text-xs text-ink-faint">
+              {c.commonAssets} assets in common{c.onlyInFirst.length ? `; ${c.onlyInFirst.length} only in ${c.first.label}` : ''}
+              {c.onlyInSecond.length ? `; ${c.onlyInSecond.length} only in ${c.second.label}` : ''}.
+            </p>
+          </Card>
+          <Card title="Per asset">
+            <DataGrid<Row> rows={c.assets} columns={columns} getRowId={(p) => p.data.symbol} csvFileName={`loadline-compare-${c.first.id}-${c.second.id}.csv`} quickSearch height={440} ariaLabel="Per-asset changes" />
+            <p className="mt-2 text-xs text-ink-faint">For dense covariances (sample, Ledoit–Wolf) the “specific” volatility is the asset’s total volatility and there is no communality.</p>
+          </Card>
+          <Caution extra="Differences between versions reflect both the data window and estimation noise." />
+        </>
+      ) : null}
+    </div>
+  );
+}

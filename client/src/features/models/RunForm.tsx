@@ -1,0 +1,261 @@
+import { useMemo } from 'react';
+import { useForm, useWatch } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { z } from 'zod';
+import {
+  ESTIMATORS,
+  ESTIMATOR_LABELS,
+  MAX_FACTORS,
+  MIN_OBSERVATIONS_PER_ASSET,
+  type ModelRun,
+  type ModelRunParametersInput,
+} from '@shared/schemas/modelRuns';
+import type { Asset } from '@shared/schemas/assets';
+import { Field } from '../../components/Field';
+import { Button } from '../../components/Button';
+import { ErrorAlert } from '../../components/Alert';
+import { useAssetsForUniverse, useCreateRun } from './api';
+
+const splitSymbols = (text: string) => [...new Set(text.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean))];
+
+/** The form's own flat shape; it becomes ModelRunParameters on submit. Rules that need the asset list sit in the factory. */
+function formSchema(assets: Asset[]) {
+  return z
+    .object({
+      label: z.string().max(60, 'at most 60 characters'),
+      universeKind: z.enum(['all', 'sectors', 'assets']),
+      sectors: z.array(z.string()),
+      symbols: z.string(),
+      windowKind: z.enum(['last', 'dates']),
+      lastN: z.number({ error: 'enter a whole number' }).int('enter a whole number'),
+      from: z.string(),
+      to: z.string(),
+      weighting: z.enum(['equal', 'exponential']),
+      halfLife: z.number({ error: 'enter a number of periods' }),
+      mean: z.enum(['sample', 'zero']),
+      estimator: z.enum(ESTIMATORS),
+      factorsMode: z.enum(['number', 'recommend']),
+      factors: z.number({ error: 'enter a whole number' }).int('enter a whole number'),
+      missing: z.enum(['em', 'complete-rows', 'drop-assets']),
+    })
+    .superRefine((v, ctx) => {
+      const issue = (path: string, message: string) => ctx.addIssue({ code: 'custom', path: [path], message });
+      let universeSize = assets.length;
+      if (v.universeKind === 'sectors') {
+        if (!v.sectors.length) issue('sectors', 'choose at least one sector');
+        universeSize = assets.filter((a) => a.sector && v.sectors.includes(a.sector)).length;
+      }
+      if (v.universeKind === 'assets') {
+        const symbols = splitSymbols(v.symbols);
+        const known = new Set(assets.map((a) => a.symbol));
+        const unknown = symbols.filter((s) => !known.has(s));
+        if (symbols.length < 2) issue('symbols', 'list at least two symbols');
+        else if (unknown.length) issue('symbols', `unknown symbol${unknown.length > 1 ? 's' : ''}: ${unknown.slice(0, 5).join(', ')}`);
+        universeSize = symbols.length;
+      }
+      if (v.windowKind === 'last' && v.lastN < MIN_OBSERVATIONS_PER_ASSET) issue('lastN', `the window needs at least ${MIN_OBSERVATIONS_PER_ASSET} observations per asset`);
+      if (v.windowKind === 'dates') {
+        if (!/^\d{4}-\d{2}-\d{2}$/.test(v.from)) issue('from', 'choose a start date');
+        if (!/^\d{4}-\d{2}-\d{2}$/.test(v.to)) issue('to', 'choose an end date');
+        else if (v.from > v.to) issue('to', 'the end date must not be before the start date');
+      }
+      if (v.weighting === 'exponential' && !(v.halfLife > 0)) issue('halfLife', 'the half-life must be a positive number of periods');
+      if ((v.estimator === 'fa' || v.estimator === 'ppca') && v.factorsMode === 'number') {
+        if (v.factors < 1) issue('factors', 'at least one factor');
+        else if (v.factors > MAX_FACTORS) issue('factors', `at most ${MAX_FACTORS} factors`);
+        else if (universeSize > 0 && v.factors >= universeSize) issue('factors', `factors must be below the number of assets (${universeSize})`);
+      }
+    });
+}
+type FormValues = z.infer<ReturnType<typeof formSchema>>;
+
+const DEFAULTS: FormValues = {
+  label: '',
+  universeKind: 'all',
+  sectors: [],
+  symbols: '',
+  windowKind: 'last',
+  lastN: 500,
+  from: '',
+  to: '',
+  weighting: 'equal',
+  halfLife: 120,
+  mean: 'sample',
+  estimator: 'fa',
+  factorsMode: 'number',
+  factors: 5,
+  missing: 'em',
+};
+
+function toParameters(v: FormValues): ModelRunParametersInput {
+  const isFactor = v.estimator === 'fa' || v.estimator === 'ppca';
+  return {
+    ...(v.label.trim() ? { label: v.label.trim() } : {}),
+    universe: v.universeKind === 'all' ? { kind: 'all' } : v.universeKind === 'sectors' ? { kind: 'sectors', sectors: v.sectors } : { kind: 'assets', symbols: splitSymbols(v.symbols) },
+    window: v.windowKind === 'last' ? { kind: 'last', observations: v.lastN } : { kind: 'dates', from: v.from, to: v.to },
+    weighting: v.weighting === 'equal' ? { kind: 'equal' } : { kind: 'exponential', halfLife: v.halfLife },
+    mean: v.mean,
+    estimator: v.estimator,
+    ...(isFactor ? { factors: v.factorsMode === 'recommend' ? ('recommend' as const) : v.factors } : {}),
+    missing: v.missing,
+  };
+}
+
+/** Server issue paths (e.g. 'universe.symbols', 'window') → the form's fields. */
+const ISSUE_FIELD: Record<string, keyof FormValues> = {
+  'universe.symbols': 'symbols',
+  'universe.sectors': 'sectors',
+  universe: 'universeKind',
+  window: 'windowKind',
+  'window.observations': 'lastN',
+  'window.to': 'to',
+  factors: 'factors',
+  missing: 'missing',
+  'weighting.halfLife': 'halfLife',
+};
+
+export function RunForm({ onQueued }: { onQueued: (run: ModelRun) => void }) {
+  const assets = useAssetsForUniverse();
+  const create = useCreateRun();
+  const assetList = useMemo(() => assets.data ?? [], [assets.data]);
+  const schema = useMemo(() => formSchema(assetList), [assetList]);
+  const form = useForm<FormValues>({ resolver: zodResolver(schema), defaultValues: DEFAULTS });
+  const { errors } = form.formState;
+  const values = useWatch({ control: form.control }) as FormValues;
+  const sectors = useMemo(() => [...new Set(assetList.map((a) => a.sector).filter((s): s is string => !!s))].sort(), [assetList]);
+  const isFactor = values.estimator === 'fa' || values.estimator === 'ppca';
+  const lambda = values.weighting === 'exponential' && values.halfLife > 0 ? Math.pow(0.5, 1 / values.halfLife) : null;
+
+  const submit = form.handleSubmit((v) =>
+    create.mutate(toParameters(v), {
+      onSuccess: (run) => onQueued(run),
+      onError: (error) => {
+        for (const issue of (error as { issues?: { path: string; message: string }[] }).issues ?? []) {
+          const field = ISSUE_FIELD[issue.path];
+          if (field) form.setError(field, { message: issue.message });
+        }
+      },
+    }),
+  );
+
+  return (
+    <form onSubmit={submit} noValidate aria-label="New model fit" className="flex flex-col gap-4">
+      {create.isError ? <ErrorAlert error={create.error} title="The fit was not queued" /> : null}
+      <div className="grid gap-4 md:grid-cols-3">
+        <fieldset className="flex flex-col gap-2">
+          <legend className="mb-1 text-xs font-semibold tracking-wide text-ink-soft uppercase">Universe</legend>
+          <Field label="Assets" error={errors.universeKind?.message}>
+            <select className="field-input" {...form.register('universeKind')}>
+              <option value="all">All assets with returns ({assetList.length})</option>
+              <option value="sectors">By sector</option>
+              <option value="assets">A list of symbols</option>
+            </select>
+          </Field>
+          {values.universeKind === 'sectors' ? (
+            <Field label="Sectors" error={errors.sectors?.message} hint="Hold Ctrl or ⌘ to choose several.">
+              <select multiple className="field-input h-28" {...form.register('sectors')}>
+                {sectors.map((s) => (
+                  <option key={s} value={s}>
+                    {s}
+                  </option>
+                ))}
+              </select>
+            </Field>
+          ) : null}
+          {values.universeKind === 'assets' ? (
+            <Field label="Symbols" error={errors.symbols?.message} hint="Separated by commas, spaces or new lines.">
+              <textarea rows={3} className="field-input font-mono" {...form.register('symbols')} />
+            </Field>
+          ) : null}
+          <Field label="Version label (optional)" error={errors.label?.message}>
+            <input className="field-input" {...form.register('label')} />
+          </Field>
+        </fieldset>
+
+        <fieldset className="flex flex-col gap-2">
+          <legend className="mb-1 text-xs font-semibold tracking-wide text-ink-soft uppercase">Window and weighting</legend>
+          <Field label="Estimation window" error={errors.windowKind?.message}>
+            <select className="field-input" {...form.register('windowKind')}>
+              <option value="last">The last N observations</option>
+              <option value="dates">Between two dates</option>
+            </select>
+          </Field>
+          {values.windowKind === 'last' ? (
+            <Field label="Observations (N dates)" error={errors.lastN?.message} hint={`At least ${MIN_OBSERVATIONS_PER_ASSET} per asset.`}>
+              <input type="number" min={MIN_OBSERVATIONS_PER_ASSET} className="field-input font-mono" {...form.register('lastN', { valueAsNumber: true })} />
+            </Field>
+          ) : (
+            <div className="grid grid-cols-2 gap-2">
+              <Field label="From" error={errors.from?.message}>
+                <input type="date" className="field-input" {...form.register('from')} />
+              </Field>
+              <Field label="To" error={errors.to?.message}>
+                <input type="date" className="field-input" {...form.register('to')} />
+              </Field>
+            </div>
+          )}
+          <Field label="Weighting">
+            <select className="field-input" {...form.register('weighting')}>
+              <option value="equal">Equal weights</option>
+              <option value="exponential">Exponential (half-life)</option>
+            </select>
+          </Field>
+          {values.weighting === 'exponential' ? (
+            <Field label="Half-life (periods)" error={errors.halfLife?.message} hint={lambda !== null ? <span className="font-mono tabular-nums">λ = 0.5^(1/h) = {lambda.toFixed(6)}</span> : 'λ = 0.5^(1/h)'}>
+              <input type="number" step="any" min={0} className="field-input font-mono" {...form.register('halfLife', { valueAsNumber: true })} />
+            </Field>
+          ) : null}
+          <Field label="Mean" hint="Zero mean is common practice for daily risk.">
+            <select className="field-input" {...form.register('mean')}>
+              <option value="sample">Sample mean</option>
+              <option value="zero">Zero mean</option>
+            </select>
+          </Field>
+        </fieldset>
+
+        <fieldset className="flex flex-col gap-2">
+          <legend className="mb-1 text-xs font-semibold tracking-wide text-ink-soft uppercase">Estimator</legend>
+          <Field label="Estimator">
+            <select className="field-input" {...form.register('estimator')}>
+              {ESTIMATORS.map((e) => (
+                <option key={e} value={e}>
+                  {ESTIMATOR_LABELS[e]}
+                </option>
+              ))}
+            </select>
+          </Field>
+          {isFactor ? (
+            <>
+              <Field label="Number of factors">
+                <select className="field-input" {...form.register('factorsMode')}>
+                  <option value="number">Set the number</option>
+                  <option value="recommend">Recommend (criteria table decides)</option>
+                </select>
+              </Field>
+              {values.factorsMode === 'number' ? (
+                <Field label="Factors (L)" error={errors.factors?.message} hint="Must be below the number of assets.">
+                  <input type="number" min={1} max={MAX_FACTORS} className="field-input font-mono" {...form.register('factors', { valueAsNumber: true })} />
+                </Field>
+              ) : (
+                <p className="text-xs text-ink-faint">Fits L = 1 … 10 and chooses by held-out log-likelihood (or BIC); the reason is shown with the model.</p>
+              )}
+            </>
+          ) : null}
+          <Field label="Missing data" error={errors.missing?.message}>
+            <select className="field-input" {...form.register('missing')}>
+              <option value="em">Use every observed value (EM / pairwise)</option>
+              <option value="complete-rows">Only dates where every asset is observed</option>
+              <option value="drop-assets">Leave out assets with gaps in the window</option>
+            </select>
+          </Field>
+        </fieldset>
+      </div>
+      <div className="flex items-center gap-3">
+        <Button type="submit" variant="primary" disabled={create.isPending || assets.isLoading}>
+          {create.isPending ? 'Queueing…' : 'Start fit'}
+        </Button>
+        <p className="text-xs text-ink-faint">The fit runs in the background; you can leave this page and come back.</p>
+      </div>
+    </form>
+  );
+}
