@@ -13,6 +13,7 @@ const ALL: readonly Role[] = ['admin', 'analyst', 'pm', 'compliance'];
 
 export const NAV_ITEMS: NavItem[] = [
   { to: '/home', label: 'Home', section: 'Workspace', roles: ALL },
+  { to: '/models', label: 'Models', section: 'Models', roles: ALL },
   { to: '/portfolios', label: 'Portfolios', section: 'Portfolios', roles: ALL },
   { to: '/audit', label: 'Audit log', section: 'Oversight', roles: ['admin', 'compliance'] },
   { to: '/users', label: 'Users', section: 'Administration', roles: ['admin'] },
