@@ -1,6 +1,7 @@
 import type { Knex } from 'knex';
 import { upsertUser } from '../services/authService';
 import { DEMO_USERS } from './users';
+import { seedDemoPortfolios } from './portfolios';
 import { seedDemoReturns } from './returns';
 import { join } from 'node:path';
 import { paths } from '../config';
@@ -15,6 +16,8 @@ export async function seedDemo(knex: Knex, log: (message: string) => void = cons
   void knex;
   // Return series and asset metadata through the import service (the path uploads take).
   await seedDemoReturns(knex, process.env.LOADLINE_DATA_DIR ?? join(paths.repoRoot, '.data'), log);
+  // Portfolios are built from the demo assets: keep this step after the import (and model) steps.
+  await seedDemoPortfolios(knex, log);
 }
 
 /** True when nothing has been stored yet (no users): the only time the demo is seeded. */

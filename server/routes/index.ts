@@ -8,6 +8,7 @@ import { usersRoutes } from './users';
 import { tokensRoutes } from './tokens';
 import { auditRoutes } from './audit';
 import { outboxRoutes } from './outbox';
+import { portfoliosRoutes } from './portfolios';
 import { modelRunRoutes } from './modelRuns';
 
 /** Every feature's API router, in one list: add a line here when a feature adds routes. */
@@ -18,6 +19,7 @@ export function apiRouters(config: Config) {
     tokensRoutes(),
     auditRoutes(),
     outboxRoutes(),
+    portfoliosRoutes(),
     modelRunRoutes(config),
     importRoutes(config),
     assetRoutes(config),

@@ -1,0 +1,197 @@
+// Portfolio risk API: a 500-holding portfolio (with a 1000-asset benchmark) on a 1000-asset, 750-date factor model
+// (FA, L = 10), GET /api/portfolios/:id/risk under 20 concurrent clients for 10 s (target: p95 ≤ 50 ms).
+// The server runs in its own process (bench/support/riskServer.ts); autocannon drives it from this one.
+// Invented planted panel (demo data, not market data). Latencies are measured per response and printed.
+import { spawn, type ChildProcess } from 'node:child_process';
+import { join } from 'node:path';
+import { performance } from 'node:perf_hooks';
+import autocannon from 'autocannon';
+import type { Knex } from 'knex';
+import { from as copyFrom } from 'pg-copy-streams';
+import { pipeline } from 'node:stream/promises';
+import { Readable } from 'node:stream';
+import { createKnex, bindModels } from '../server/db/knex';
+import { loadConfig } from '../server/config';
+import { plantedPanel } from '../server/engine/planted';
+import { createRandom } from '../server/engine/random';
+import { prepareDatabase } from '../scripts/prepare';
+import { loadPanel } from '../server/services/modelPanel';
+import { computeModelRun } from '../server/worker/fitCompute';
+import { insertRun } from '../server/services/modelRunService';
+import { insertModelResult, panelSha256 } from '../server/services/modelStore';
+import { ModelRunParametersSchema } from '../shared/schemas/modelRuns';
+
+const N = 1000;
+const T = 750;
+const HOLDINGS = 500;
+const PREFIX = 'LRB'; // invented "load risk bench" symbols LRB0000 … LRB0999
+const CONNECTIONS = 20;
+const DURATION_S = 10;
+
+function percentile(sorted: number[], p: number): number {
+  if (!sorted.length) return NaN;
+  return sorted[Math.min(sorted.length - 1, Math.ceil((p / 100) * sorted.length) - 1)];
+}
+
+function businessDates(count: number): string[] {
+  const out: string[] = [];
+  const d = new Date(Date.UTC(2022, 0, 3));
+  while (out.length < count) {
+    const day = d.getUTCDay();
+    if (day !== 0 && day !== 6) out.push(d.toISOString().slice(0, 10));
+    d.setUTCDate(d.getUTCDate() + 1);
+  }
+  return out;
+}
+
+/** 1000 invented assets with 750 dates of returns, stored once (COPY); answers the symbols. */
+async function ensureUniverse(knex: Knex): Promise<{ symbols: string[]; dates: string[] }> {
+  const symbols = Array.from({ length: N }, (_, i) => `${PREFIX}${String(i).padStart(4, '0')}`);
+  const dates = businessDates(T);
+  const have = await knex('assets').whereIn('symbol', symbols).count<{ count: number }[]>({ count: '*' }).first();
+  if (Number(have?.count) === N) return { symbols, dates };
+  const planted = plantedPanel({ assets: N, observations: T, factors: 8, seed: 4242, noise: 'student-t' });
+  await knex('assets').insert(symbols.map((symbol) => ({ symbol, name: `Bench asset ${symbol}`, sector: `Bench sector ${symbol.charCodeAt(6) % 8}` }))).onConflict('symbol').ignore();
+  const ids = new Map(((await knex('assets').whereIn('symbol', symbols).select('id', 'symbol')) as { id: number; symbol: string }[]).map((r) => [r.symbol, r.id]));
+  const client = (await knex.client.acquireConnection()) as import('pg').PoolClient;
+  try {
+    const lines = function* () {
+      for (let t = 0; t < T; t++) {
+        let chunk = '';
+        for (let i = 0; i < N; i++) chunk += `${ids.get(symbols[i])}\t${dates[t]}\t${planted.panel.values[t * N + i]}\n`;
+        yield chunk;
+      }
+    };
+    await pipeline(Readable.from(lines()), client.query(copyFrom('COPY return_observations (asset_id, date, value) FROM STDIN')) as unknown as NodeJS.WritableStream);
+  } finally {
+    await knex.client.releaseConnection(client);
+  }
+  return { symbols, dates };
+}
+
+async function storeRun(knex: Knex, symbols: string[], dates: string[], estimator: 'fa' | 'ppca'): Promise<number> {
+  const parameters = ModelRunParametersSchema.parse({
+    label: 'portfolio-risk bench',
+    universe: { kind: 'assets', symbols },
+    window: { kind: 'dates', from: dates[0], to: dates[dates.length - 1] },
+    estimator,
+    factors: 10,
+  });
+  const panel = await loadPanel(knex, parameters.universe, parameters.window, parameters.missing);
+  const started = performance.now();
+  const fit = computeModelRun(panel, parameters);
+  console.log(`  fitted ${estimator.toUpperCase()} N=${panel.assets} T=${panel.observations} L=10 in ${((performance.now() - started) / 1000).toFixed(2)} s`);
+  const analyst = await knex('users').where({ email: 'analyst@quillfield.example' }).first();
+  const approver = await knex('users').where({ email: 'analyst2@quillfield.example' }).first();
+  return knex.transaction(async (trx) => {
+    const run = await insertRun(trx, parameters, analyst, null);
+    await trx('model_runs').where({ id: run.id }).update({ status: 'succeeded', finished_at: trx.fn.now(), progress_fraction: 1 });
+    await insertModelResult(trx, run.id, {
+      model: fit.model,
+      assetIds: panel.assetIds,
+      symbols: panel.symbols,
+      dates: panel.dates,
+      dataSha256: panelSha256(panel.values),
+      periodsPerYear: panel.periodsPerYear,
+      factorScores: fit.factorScores,
+      logLikelihood: fit.logLikelihood,
+      diagnostics: fit.diagnostics,
+    });
+    await trx('model_runs').where({ id: run.id }).update({ lifecycle: 'approved', approved_by: approver.id, approved_at: trx.fn.now(), approval_comment: 'benchmark model' });
+    return run.id;
+  });
+}
+
+async function ensurePortfolio(knex: Knex, symbols: string[]): Promise<number> {
+  const pm = await knex('users').where({ email: 'pm@quillfield.example' }).first();
+  const ids = ((await knex('assets').whereIn('symbol', symbols).orderBy('symbol').select('id')) as { id: number }[]).map((r) => r.id);
+  const rng = createRandom(99);
+  await knex('portfolios').where({ owner_id: pm.id }).whereIn('name', ['Bench 500-holding fund', 'Bench 1000-asset benchmark']).delete();
+  const [bench] = await knex('portfolios').insert({ name: 'Bench 1000-asset benchmark', owner_id: pm.id, kind: 'benchmark' }).returning('id');
+  const bw = ids.map(() => 0.2 + rng.uniform());
+  const bs = bw.reduce((s, x) => s + x, 0);
+  await knex('portfolio_holdings').insert(ids.map((asset_id, position) => ({ portfolio_id: bench.id, asset_id, position, weight: bw[position] / bs })));
+  const [fund] = await knex('portfolios').insert({ name: 'Bench 500-holding fund', owner_id: pm.id, benchmark_portfolio_id: bench.id }).returning('id');
+  const chosen = ids.filter((_, i) => i % 2 === 0).slice(0, HOLDINGS);
+  const fw = chosen.map(() => 0.2 + rng.uniform());
+  const fs = fw.reduce((s, x) => s + x, 0);
+  await knex('portfolio_holdings').insert(chosen.map((asset_id, position) => ({ portfolio_id: fund.id, asset_id, position, weight: fw[position] / fs })));
+  return fund.id;
+}
+
+function startServer(): Promise<{ child: ChildProcess; port: number }> {
+  return new Promise((resolve, reject) => {
+    const child = spawn(process.execPath, ['--import', 'tsx', join(import.meta.dirname, 'support', 'riskServer.ts')], { stdio: ['ignore', 'pipe', 'inherit'], env: process.env });
+    let buffer = '';
+    child.stdout!.on('data', (data: Buffer) => {
+      buffer += data.toString();
+      const match = /PORT (\d+)/.exec(buffer);
+      if (match) resolve({ child, port: Number(match[1]) });
+    });
+    child.on('exit', (code) => reject(new Error(`risk server exited with ${code}`)));
+  });
+}
+
+async function load(url: string, token: string, method: 'GET' | 'POST', body?: string) {
+  const times: number[] = [];
+  let errors = 0;
+  const instance = autocannon({
+    url,
+    method,
+    connections: CONNECTIONS,
+    duration: DURATION_S,
+    headers: { authorization: `Bearer ${token}`, ...(body ? { 'content-type': 'application/json' } : {}) },
+    body,
+  });
+  instance.on('response', (_client: unknown, statusCode: number, _bytes: number, responseTime: number) => {
+    if (statusCode !== 200) errors++;
+    times.push(responseTime);
+  });
+  const result = await instance;
+  times.sort((a, b) => a - b);
+  return { result, times, errors };
+}
+
+export default async function run(): Promise<void> {
+  await prepareDatabase();
+  const config = loadConfig();
+  const knex = createKnex(config.databaseUrl, { max: 4 });
+  bindModels(knex);
+  let server: { child: ChildProcess; port: number } | null = null;
+  try {
+    let started = performance.now();
+    const { symbols, dates } = await ensureUniverse(knex);
+    console.log(`  universe ready: ${N} assets × ${T} dates in ${((performance.now() - started) / 1000).toFixed(1)} s`);
+    const faRun = await storeRun(knex, symbols, dates, 'fa');
+    await storeRun(knex, symbols, dates, 'ppca');
+    const portfolioId = await ensurePortfolio(knex, symbols);
+    server = await startServer();
+    const base = `http://127.0.0.1:${server.port}`;
+    const signIn = await fetch(`${base}/api/auth/sign-in`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: 'pm@quillfield.example', password: 'demo-pm-pass' }) });
+    const { token } = (await signIn.json()) as { token: string };
+    const url = `${base}/api/portfolios/${portfolioId}/risk?model=${faRun}`;
+    started = performance.now();
+    const first = await fetch(url, { headers: { authorization: `Bearer ${token}` } });
+    const firstBody = (await first.json()) as { volatilities?: { estimator: string; annualisedVolatility: number | null }[]; contributors?: unknown[]; error?: string };
+    if (first.status !== 200) throw new Error(`risk request failed: ${first.status} ${JSON.stringify(firstBody)}`);
+    console.log(`  first request (loads the model, sample and Ledoit–Wolf on the window into memory): ${(performance.now() - started).toFixed(0)} ms`);
+    console.log(`  volatilities: ${firstBody.volatilities!.map((v) => `${v.estimator} ${((v.annualisedVolatility ?? NaN) * 100).toFixed(2)} %`).join(', ')}; ${firstBody.contributors!.length} contributors`);
+    for (let k = 0; k < 50; k++) await (await fetch(url, { headers: { authorization: `Bearer ${token}` } })).arrayBuffer(); // JIT warm-up
+
+    const get = await load(url, token, 'GET');
+    const getP95 = percentile(get.times, 95);
+    console.log(
+      `  GET risk, ${HOLDINGS} holdings on ${N} assets, ${CONNECTIONS} clients, ${DURATION_S} s: ${get.times.length} requests, ${get.result.requests.average.toFixed(0)} req/s, ` +
+        `p50 ${percentile(get.times, 50).toFixed(1)} ms, p95 ${getP95.toFixed(1)} ms, p99 ${percentile(get.times, 99).toFixed(1)} ms, non-200: ${get.errors} ` +
+        `— target p95 ≤ 50 ms: ${getP95 <= 50 ? 'met' : 'NOT met'}`,
+    );
+    const holdings = symbols.filter((_, i) => i % 2 === 0).slice(0, HOLDINGS).map((symbol, i) => ({ symbol, weight: 1 / HOLDINGS + (i === 0 ? 0.01 : 0) }));
+    const whatIf = await load(`${base}/api/portfolios/${portfolioId}/risk/what-if`, token, 'POST', JSON.stringify({ holdings, model: faRun }));
+    console.log(
+      `  POST what-if, same portfolio: ${whatIf.times.length} requests, p50 ${percentile(whatIf.times, 50).toFixed(1)} ms, p95 ${percentile(whatIf.times, 95).toFixed(1)} ms, non-200: ${whatIf.errors}`,
+    );
+  } finally {
+    server?.child.kill('SIGTERM');
+    await knex.destroy();
+  }
+}

@@ -1,0 +1,106 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { Page } from 'playwright-core';
+import { launchBrowser, signInThroughUi, startServer } from '../helpers/browser';
+import { unique } from '../helpers/app';
+import { createKnex } from '../../server/db/knex';
+import { loadConfig } from '../../server/config';
+import { plantedPanel } from '../../server/engine/planted';
+import { insertReturnSeries, removeAssets, storeFittedRun } from '../helpers/portfolioModels';
+
+const N = 25;
+const T = 180;
+const prefix = unique('BP').toUpperCase();
+const symbols = Array.from({ length: N }, (_, i) => `${prefix}${String(i).padStart(2, '0')}`);
+const dates = Array.from({ length: T }, (_, t) => new Date(Date.UTC(2024, 5, 1 + t)).toISOString().slice(0, 10));
+const knex = createKnex(loadConfig().databaseUrl, { max: 2 });
+
+let server: Awaited<ReturnType<typeof startServer>>;
+let browser: Awaited<ReturnType<typeof launchBrowser>>;
+let assetIds: number[] = [];
+let runId = 0;
+let portfolioId = 0;
+
+beforeAll(async () => {
+  const planted = plantedPanel({ assets: N, observations: T, factors: 2, seed: 91 });
+  const values = Array.from({ length: T }, (_, t) => Array.from(planted.panel.values.subarray(t * N, (t + 1) * N)));
+  assetIds = await insertReturnSeries(knex, symbols, dates, values);
+  runId = (await storeFittedRun(knex, { symbols, from: dates[0], to: dates[T - 1], estimator: 'fa', factors: 2 })).id;
+  const pm = await knex('users').where({ email: 'pm@quillfield.example' }).first();
+  const [row] = await knex('portfolios').insert({ name: `Browser fund ${prefix}`, owner_id: pm.id }).returning('id');
+  portfolioId = row.id;
+  await knex('portfolio_holdings').insert(symbols.slice(0, 8).map((_, j) => ({ portfolio_id: portfolioId, asset_id: assetIds[j], position: j, weight: 0.125 })));
+  server = await startServer();
+  browser = await launchBrowser();
+});
+
+afterAll(async () => {
+  await browser?.close();
+  await server?.close();
+  await knex('portfolios').where({ id: portfolioId }).delete();
+  await removeAssets(knex, assetIds);
+  await knex.destroy();
+});
+
+const figure = (page: Page, id: string) => page.getByTestId(id).textContent();
+
+describe('portfolio risk page', () => {
+  it('a PM sees the volatilities side by side, edits a weight and sees the figures change', async () => {
+    const page = await browser.context.newPage();
+    await signInThroughUi(page, server.url, 'pm');
+    await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Portfolios', exact: true }).click();
+    await page.getByRole('link', { name: `Risk of Browser fund ${prefix}` }).click();
+    await page.waitForURL((url) => url.pathname === `/portfolios/${portfolioId}/risk`);
+    // The page opens under the latest approved model; choose this test's run through the address, as model pages link.
+    await page.goto(`${server.url}/portfolios/${portfolioId}/risk?model=${runId}`);
+    const table = page.getByRole('table', { name: 'Predicted volatility' });
+    await table.waitFor();
+    await page.getByTestId('vol-sample').filter({ hasText: '%' }).waitFor();
+    for (const estimator of ['Factor analysis (maximum likelihood)', 'Probabilistic PCA', 'Sample covariance', 'Ledoit–Wolf shrinkage']) {
+      await expect(table.getByRole('rowheader', { name: estimator }).count()).resolves.toBe(1);
+    }
+    const before = { fa: await figure(page, 'vol-fa'), sample: await figure(page, 'vol-sample'), lw: await figure(page, 'vol-ledoit-wolf'), ratio: await figure(page, 'ratio-fa') };
+    expect(before.fa).toMatch(/^\d+\.\d\d %$/);
+    expect(before.sample).toMatch(/^\d+\.\d\d %$/);
+    expect(before.ratio).toMatch(/^\d\.\d{3}$/);
+    await expect(page.getByRole('complementary', { name: 'Caution' }).first().textContent()).resolves.toMatch(/model estimates, not guarantees/);
+
+    // What-if: raise the first holding's weight from 12.5 % to 40 %.
+    await page.getByRole('button', { name: 'Edit weights (what-if)' }).click();
+    const grid = page.getByRole('region', { name: 'What-if weights' });
+    const cell = grid.locator('[role="gridcell"][col-id="value"]').first();
+    const editor = grid.locator('[role="gridcell"][col-id="value"] input').first();
+    // A click can land while the grid is still settling its first render: click until the editor opens.
+    await expect
+      .poll(
+        async () => {
+          if (!(await editor.isVisible())) await cell.click();
+          return editor.isVisible();
+        },
+        { timeout: 15_000, intervals: [300, 600, 1000] },
+      )
+      .toBe(true);
+    await editor.fill('40');
+    await editor.press('Enter');
+    await page.getByText('What-if: not saved').waitFor();
+    await page.waitForFunction(
+      (previous) => {
+        const now = document.querySelector('[data-testid="vol-fa"]')?.textContent;
+        return now && now !== previous && !document.body.textContent?.includes('Updating…');
+      },
+      before.fa,
+      { timeout: 15_000 },
+    );
+    const after = { fa: await figure(page, 'vol-fa'), sample: await figure(page, 'vol-sample'), lw: await figure(page, 'vol-ledoit-wolf') };
+    expect(after.fa).not.toBe(before.fa);
+    expect(after.sample).not.toBe(before.sample);
+    expect(after.lw).not.toBe(before.lw);
+    await page.screenshot({ path: join(tmpdir(), 'loadline-portfolio-risk.png'), fullPage: true });
+
+    // Nothing was saved.
+    const stored = await knex('portfolio_holdings').where({ portfolio_id: portfolioId }).orderBy('position').first();
+    expect(stored.weight).toBe(0.125);
+    await page.close();
+  });
+});
