@@ -5,7 +5,7 @@
 import type { CovarianceModel } from './types';
 import { factorPrecision } from './lowRank';
 import { chiSquare1Survival } from './normalDistribution';
-import { choleskyInPlace, choleskySolveInPlace } from './smallDense';
+import { choleskySolve, tryCholesky } from './linalg/cholesky';
 import { confidenceQuantile } from './risk';
 
 function assertSameLength(a: ArrayLike<number>, b: ArrayLike<number>, what: string): void {
@@ -127,11 +127,11 @@ export function minimumVarianceWeights(model: CovarianceModel): Float64Array {
   if (model.kind === 'factor') {
     x = factorPrecision(model)(ones);
   } else {
-    const chol = model.covariance.slice();
-    if (!choleskyInPlace(chol, n)) {
+    const chol = tryCholesky(model.covariance, n);
+    if (!chol) {
       throw new Error(`the ${model.method} covariance is not positive definite (singular when observations ≤ assets); use shrinkage or a factor model for minimum-variance weights`);
     }
-    x = choleskySolveInPlace(chol, n, ones);
+    x = choleskySolve(chol, n, ones, 1);
   }
   let total = 0;
   for (let i = 0; i < n; i++) total += x[i];

@@ -24,3 +24,59 @@ export { fitModel, type FitOptions, type FitResult, type FitDiagnostics, type Fi
 export { symmetricEigen, topEigenpairs, denseOperator, type SymmetricOperator, type EigenResult } from './linalg/eigen';
 export { cholesky, choleskySolve, choleskyLogDet, spdInverse, tryCholesky } from './linalg/cholesky';
 export { multiplyABt, multiply, multiplyAtB, rowGram, transpose, lowRankPlusDiagonal, relativeFrobenius } from './linalg/dense';
+// Risk, rotation, scores, sampling and forecast evaluation on fitted models.
+export {
+  portfolioRisk,
+  portfolioRiskBatch,
+  varianceBreakdown,
+  parametricTailRisk,
+  monteCarloRisk,
+  confidenceQuantile,
+  PERIODS_PER_YEAR,
+  DEFAULT_CONFIDENCE_LEVELS,
+  EXPOSURE_CAVEAT,
+  RISK_ASSUMPTIONS,
+  type RiskOptions,
+  type PortfolioRisk,
+  type VarianceBreakdown,
+  type TailRisk,
+  type ExposureSummary,
+  type MonteCarloOptions,
+  type MonteCarloRisk,
+  type MonteCarloTailRisk,
+} from './risk';
+export {
+  communalities,
+  specificShares,
+  impliedCorrelation,
+  impliedCorrelations,
+  impliedCorrelationMatrix,
+  FULL_CORRELATION_LIMIT,
+  principalAngles,
+  loadingSubspaceAngles,
+  varimax,
+  varimaxCriterion,
+  checkRotationInvariance,
+  type VarimaxOptions,
+  type VarimaxResult,
+  type RotationCheck,
+} from './rotation';
+export { sampleReturns, semidefiniteCholesky, type SamplingOptions } from './sampling';
+export { factorScores, type FactorScores } from './scores';
+export {
+  biasStatistic,
+  qlikeLoss,
+  kupiecTest,
+  minimumVarianceWeights,
+  rollingWindows,
+  evaluateForecasts,
+  type BiasStatistic,
+  type QlikeLoss,
+  type KupiecTest,
+  type Window,
+  type ForecastEvaluationInput,
+  type ForecastEvaluation,
+} from './evaluation';
+export { covarianceTimes, loadingsTransposeTimes, denseCovariance, capacitanceMatrix, factorPrecision, assertWeights } from './lowRank';
+export { normalCdf, normalQuantile, normalDensity, erf, erfc, chiSquare1Survival, NORMAL_QUANTILE_95, NORMAL_QUANTILE_99 } from './normalDistribution';
+export { thinSvd, singularValues, orthonormalBasis, type ThinSvd } from './jacobiSvd';

@@ -1,68 +1,8 @@
 /**
- * Small dense kernels used by the risk, rotation, score and evaluation code: Cholesky factorisation and solves,
- * Gram–Schmidt orthonormalisation and a one-sided Jacobi SVD for tall, thin matrices (N × L with L small).
- * Row-major Float64Arrays throughout. Pure, no I/O.
+ * Orthonormal bases (Gram–Schmidt) and a one-sided Jacobi SVD for tall, thin matrices (N × L with L small), used by
+ * principal angles between loading subspaces. Row-major Float64Arrays throughout. Pure, no I/O.
  */
-
-/**
- * In-place Cholesky A = C Cᵀ (lower triangle of `a` overwritten with C, upper triangle zeroed)
- * (Golub & Van Loan 2013, Algorithm 4.2.1). Returns false when A is not numerically positive definite.
- */
-export function choleskyInPlace(a: Float64Array, n: number): boolean {
-  for (let j = 0; j < n; j++) {
-    const rowJ = j * n;
-    let d = a[rowJ + j];
-    for (let k = 0; k < j; k++) d -= a[rowJ + k] * a[rowJ + k];
-    if (!(d > 0) || !Number.isFinite(d)) return false;
-    const cjj = Math.sqrt(d);
-    a[rowJ + j] = cjj;
-    for (let i = j + 1; i < n; i++) {
-      const rowI = i * n;
-      let s = a[rowI + j];
-      for (let k = 0; k < j; k++) s -= a[rowI + k] * a[rowJ + k];
-      a[rowI + j] = s / cjj;
-    }
-    for (let k = j + 1; k < n; k++) a[rowJ + k] = 0;
-  }
-  return true;
-}
-
-/** Solves (C Cᵀ) x = b in place given the lower Cholesky factor C from choleskyInPlace. */
-export function choleskySolveInPlace(c: Float64Array, n: number, b: Float64Array): Float64Array {
-  for (let i = 0; i < n; i++) {
-    let s = b[i];
-    const row = i * n;
-    for (let k = 0; k < i; k++) s -= c[row + k] * b[k];
-    b[i] = s / c[row + i];
-  }
-  for (let i = n - 1; i >= 0; i--) {
-    let s = b[i];
-    for (let k = i + 1; k < n; k++) s -= c[k * n + i] * b[k];
-    b[i] = s / c[i * n + i];
-  }
-  return b;
-}
-
-/** Inverse of a symmetric positive definite matrix from its Cholesky factor (small n only). */
-export function choleskyInverse(c: Float64Array, n: number): Float64Array {
-  const inv = new Float64Array(n * n);
-  const column = new Float64Array(n);
-  for (let j = 0; j < n; j++) {
-    column.fill(0);
-    column[j] = 1;
-    choleskySolveInPlace(c, n, column);
-    for (let i = 0; i < n; i++) inv[i * n + j] = column[i];
-  }
-  // Symmetrise against rounding.
-  for (let i = 0; i < n; i++) {
-    for (let j = 0; j < i; j++) {
-      const v = 0.5 * (inv[i * n + j] + inv[j * n + i]);
-      inv[i * n + j] = v;
-      inv[j * n + i] = v;
-    }
-  }
-  return inv;
-}
+import { transpose } from './linalg/dense';
 
 /** Copies the columns of a row-major rows × cols matrix into separate arrays. */
 function toColumns(a: Float64Array, rows: number, cols: number): Float64Array[] {
@@ -200,40 +140,4 @@ export function thinSvd(a: Float64Array, rows: number, cols: number): ThinSvd {
 export function singularValues(a: Float64Array, rows: number, cols: number): Float64Array {
   if (rows >= cols) return thinSvd(a, rows, cols).singularValues;
   return thinSvd(transpose(a, rows, cols), cols, rows).singularValues;
-}
-
-/** Transpose of a row-major rows × cols matrix. */
-export function transpose(a: Float64Array, rows: number, cols: number): Float64Array {
-  const out = new Float64Array(rows * cols);
-  for (let i = 0; i < rows; i++) for (let j = 0; j < cols; j++) out[j * rows + i] = a[i * cols + j];
-  return out;
-}
-
-/** Product of row-major (m × k) and (k × n) matrices. */
-export function multiply(a: Float64Array, b: Float64Array, m: number, k: number, n: number): Float64Array {
-  const out = new Float64Array(m * n);
-  for (let i = 0; i < m; i++) {
-    const rowOut = i * n;
-    for (let p = 0; p < k; p++) {
-      const aip = a[i * k + p];
-      if (aip === 0) continue;
-      const rowB = p * n;
-      for (let j = 0; j < n; j++) out[rowOut + j] += aip * b[rowB + j];
-    }
-  }
-  return out;
-}
-
-/** Aᵀ B for row-major A (m × k) and B (m × n): a k × n matrix. */
-export function multiplyTransposeA(a: Float64Array, b: Float64Array, m: number, k: number, n: number): Float64Array {
-  const out = new Float64Array(k * n);
-  for (let r = 0; r < m; r++) {
-    for (let p = 0; p < k; p++) {
-      const arp = a[r * k + p];
-      if (arp === 0) continue;
-      const rowOut = p * n;
-      for (let j = 0; j < n; j++) out[rowOut + j] += arp * b[r * n + j];
-    }
-  }
-  return out;
 }

@@ -6,7 +6,7 @@
  * Dense models multiply by the stored Σ directly.
  */
 import type { CovarianceModel, FactorModel } from './types';
-import { choleskyInPlace, choleskySolveInPlace } from './smallDense';
+import { choleskySolve, tryCholesky } from './linalg/cholesky';
 
 /** Throws a clear error when a weight vector does not fit the model. */
 export function assertWeights(model: CovarianceModel, weights: ArrayLike<number>, label = 'weights'): void {
@@ -112,8 +112,8 @@ export function capacitanceMatrix(model: FactorModel): Float64Array {
  */
 export function factorPrecision(model: FactorModel): (v: ArrayLike<number>) => Float64Array {
   const { assets: n, factors: l, loadings, specificVariance } = model;
-  const chol = capacitanceMatrix(model);
-  if (!choleskyInPlace(chol, l)) throw new Error('capacitance matrix I + WᵀΨ⁻¹W is not positive definite');
+  const chol = tryCholesky(capacitanceMatrix(model), l);
+  if (!chol) throw new Error('capacitance matrix I + WᵀΨ⁻¹W is not positive definite');
   return (v) => {
     const scaled = new Float64Array(n);
     for (let i = 0; i < n; i++) scaled[i] = v[i] / specificVariance[i];
@@ -123,7 +123,7 @@ export function factorPrecision(model: FactorModel): (v: ArrayLike<number>) => F
       const row = i * l;
       for (let k = 0; k < l; k++) y[k] += loadings[row + k] * s;
     }
-    choleskySolveInPlace(chol, l, y);
+    choleskySolve(chol, l, y, 1);
     for (let i = 0; i < n; i++) {
       let s = 0;
       const row = i * l;

@@ -13,7 +13,10 @@ import {
   varimax,
   varimaxCriterion,
 } from './rotation';
-import { multiply } from './smallDense';
+import { multiply as multiplyMatrices } from './linalg/dense';
+
+/** (m × k)(k × n) product, arguments in reading order. */
+const multiply = (a: Float64Array, b: Float64Array, m: number, k: number, n: number) => multiplyMatrices(a, m, k, b, n);
 import { plantedPanel } from './planted';
 import { createRandom } from './random';
 import { portfolioRisk } from './risk';

@@ -5,7 +5,8 @@
  * subspace spanned by the loadings are invariant; single loadings columns are not.
  */
 import type { CovarianceModel, FactorModel } from './types';
-import { orthonormalBasis, singularValues, multiply, multiplyTransposeA, transpose } from './smallDense';
+import { orthonormalBasis, singularValues } from './jacobiSvd';
+import { multiply, multiplyAtB, transpose } from './linalg/dense';
 
 /** Communalities hᵢ = Σₖ Wᵢₖ² (Harman 1976, eq. 2.13): the variance of asset i explained by the factors. */
 export function communalities(model: FactorModel): Float64Array {
@@ -90,18 +91,18 @@ export function principalAngles(a: Float64Array, b: Float64Array, n: number, la:
   const { basis: qb, rank: kb } = orthonormalBasis(b, n, lb);
   const r = Math.min(ka, kb);
   if (r === 0) return new Float64Array(0);
-  const c = multiplyTransposeA(qa, qb, n, ka, kb); // ka × kb
+  const c = multiplyAtB(qa, n, ka, qb, kb); // ka × kb
   const cosines = singularValues(c, ka, kb); // descending: cos of ascending angles
   // Residual of the larger basis' complement: its singular values are the sines.
   let residual: Float64Array;
   let cols: number;
   if (ka >= kb) {
-    const proj = multiply(qa, c, n, ka, kb);
+    const proj = multiply(qa, n, ka, c, kb);
     residual = qb.slice();
     for (let j = 0; j < residual.length; j++) residual[j] -= proj[j];
     cols = kb;
   } else {
-    const proj = multiply(qb, transpose(c, ka, kb), n, kb, ka);
+    const proj = multiply(qb, n, kb, transpose(c, ka, kb), ka);
     residual = qa.slice();
     for (let j = 0; j < residual.length; j++) residual[j] -= proj[j];
     cols = ka;
@@ -214,7 +215,7 @@ export function varimax(loadings: Float64Array, n: number, l: number, options: V
     }
     if (largest <= tolerance) converged = true;
   }
-  const rotatedNormalised = multiply(x, rotation, n, l, l);
+  const rotatedNormalised = multiply(x, n, l, rotation, l);
   const criterion = varimaxCriterion(rotatedNormalised, n, l);
   const rotated = rotatedNormalised;
   for (let i = 0; i < n; i++) for (let k = 0; k < l; k++) rotated[i * l + k] *= scale[i];
@@ -275,7 +276,7 @@ export function checkRotationInvariance(loadings: Float64Array, n: number, l: nu
       orthogonalityError = Math.max(orthogonalityError, Math.abs(s - (a === b ? 1 : 0)));
     }
   }
-  const rotated = multiply(loadings, rotation, n, l, l);
+  const rotated = multiply(loadings, n, l, rotation, l);
   let maxAbs = 0;
   let maxEntry = 0;
   for (let i = 0; i < n; i++) {

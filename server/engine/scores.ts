@@ -8,7 +8,7 @@
  */
 import type { FactorModel, ReturnsPanel } from './types';
 import { capacitanceMatrix } from './lowRank';
-import { choleskyInPlace, choleskyInverse, choleskySolveInPlace } from './smallDense';
+import { choleskySolve, tryCholesky } from './linalg/cholesky';
 
 export interface FactorScores {
   /** T × L posterior means E[z_t | x_t], row-major. */
@@ -28,9 +28,9 @@ export function factorScores(model: FactorModel, panel: ReturnsPanel): FactorSco
   if (panel.assets !== n) throw new Error(`panel has ${panel.assets} assets but the model has ${n}`);
   const t = panel.observations;
   const fullM = capacitanceMatrix(model); // also checks Ψ > 0
-  const fullChol = fullM.slice();
-  if (!choleskyInPlace(fullChol, l)) throw new Error('I + WᵀΨ⁻¹W is not positive definite');
-  const fullCov = choleskyInverse(fullChol, l);
+  const fullChol = tryCholesky(fullM, l);
+  if (!fullChol) throw new Error('I + WᵀΨ⁻¹W is not positive definite');
+  const fullCov = inverseFromCholesky(fullChol, l);
 
   const scores = new Float64Array(t * l);
   const posteriorCovariances = new Float64Array(t * l * l);
@@ -58,7 +58,7 @@ export function factorScores(model: FactorModel, panel: ReturnsPanel): FactorSco
       for (let k = 0; k < l; k++) posteriorCovariances[covOut + k * l + k] = 1;
       continue;
     }
-    let chol: Float64Array;
+    let chol: Float64Array | null;
     if (observed === n) {
       chol = fullChol;
       posteriorCovariances.set(fullCov, covOut);
@@ -72,11 +72,11 @@ export function factorScores(model: FactorModel, panel: ReturnsPanel): FactorSco
         for (let k = 0; k < l; k++) m[k * l + k] = 1;
         accumulateOuter(m, model, panel.values, base, false, 1);
       }
-      chol = m.slice();
-      if (!choleskyInPlace(chol, l)) throw new Error(`posterior precision on date ${row} is not positive definite`);
-      posteriorCovariances.set(choleskyInverse(chol, l), covOut);
+      chol = tryCholesky(m, l);
+      if (!chol) throw new Error(`posterior precision on date ${row} is not positive definite`);
+      posteriorCovariances.set(inverseFromCholesky(chol, l), covOut);
     }
-    const z = choleskySolveInPlace(chol, l, b.slice());
+    const z = choleskySolve(chol, l, b.slice(), 1);
     scores.set(z, row * l);
   }
   return { scores, posteriorCovariances, observedCounts, emptyRows, observations: t, factors: l };
@@ -94,4 +94,19 @@ function accumulateOuter(m: Float64Array, model: FactorModel, values: Float64Arr
       for (let c = 0; c < l; c++) m[a * l + c] += wa * loadings[wr + c];
     }
   }
+}
+
+/** M⁻¹ from the Cholesky factor of M (L × L), symmetrised against rounding. */
+function inverseFromCholesky(chol: Float64Array, l: number): Float64Array {
+  const inv = new Float64Array(l * l);
+  for (let k = 0; k < l; k++) inv[k * l + k] = 1;
+  choleskySolve(chol, l, inv, l);
+  for (let a = 0; a < l; a++) {
+    for (let c = 0; c < a; c++) {
+      const v = 0.5 * (inv[a * l + c] + inv[c * l + a]);
+      inv[a * l + c] = v;
+      inv[c * l + a] = v;
+    }
+  }
+  return inv;
 }
