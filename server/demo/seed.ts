@@ -3,6 +3,7 @@ import { upsertUser } from '../services/authService';
 import { DEMO_USERS } from './users';
 import { seedDemoPortfolios } from './portfolios';
 import { seedDemoReturns } from './returns';
+import { seedDemoModels } from './models';
 import { join } from 'node:path';
 import { paths } from '../config';
 
@@ -16,6 +17,8 @@ export async function seedDemo(knex: Knex, log: (message: string) => void = cons
   void knex;
   // Return series and asset metadata through the import service (the path uploads take).
   await seedDemoReturns(knex, process.env.LOADLINE_DATA_DIR ?? join(paths.repoRoot, '.data'), log);
+  // Approved demo models (fitted directly by the engine, approved by the second demo analyst).
+  await seedDemoModels(knex, log);
   // Portfolios are built from the demo assets: keep this step after the import (and model) steps.
   await seedDemoPortfolios(knex, log);
 }
