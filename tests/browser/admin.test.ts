@@ -25,6 +25,11 @@ beforeAll(async () => {
   server = await startServer({ smtpUrl: `smtp://127.0.0.1:${sink.port}` });
   browser = await launchBrowser();
   context = browser.context;
+  // Warm-up outside the tests: a cold browser and server on a busy machine can take long for the first page.
+  const warm = await context.newPage();
+  await warm.goto(`${server.url}/sign-in`, { timeout: 90_000 });
+  await warm.getByLabel('E-mail').waitFor({ timeout: 90_000 });
+  await warm.close();
 });
 afterAll(async () => {
   await browser?.close();
@@ -47,7 +52,8 @@ async function signInAs(email: string, password: string) {
 describe('users, invitations and the outbox', () => {
   const email = `${unique('invitee')}@quillfield.example`;
   const name = 'Rosalind Achterberg';
-  const password = 'a-long-enough-pass';
+  const firstPassword = 'a-long-enough-pass';
+  const password = 'another-long-pass';
 
   it('an admin invites a user, who follows the mailed link, sets a password and signs in', async () => {
     await signInThroughUi(page, server.url, 'admin');
@@ -86,18 +92,34 @@ describe('users, invitations and the outbox', () => {
     await context.clearCookies();
     await page.goto(`${server.url}${link.pathname}${link.search}`);
     await page.getByRole('heading', { name: 'Welcome to Loadline' }).waitFor();
-    await page.getByLabel('New password').fill(password);
-    await page.getByLabel('Repeat the password').fill(`${password}x`);
+    await page.getByLabel('New password').fill(firstPassword);
+    await page.getByLabel('Repeat the password').fill(`${firstPassword}x`);
     await page.getByRole('button', { name: 'Set password' }).click();
     await page.getByText('the two passwords differ').waitFor();
-    await page.getByLabel('Repeat the password').fill(password);
+    await page.getByLabel('Repeat the password').fill(firstPassword);
     await page.getByRole('button', { name: 'Set password' }).click();
     await page.waitForURL((url) => url.pathname === '/sign-in');
 
-    await signInAs(email, password);
+    await signInAs(email, firstPassword);
     await page.waitForURL((url) => url.pathname === '/home');
     await expect(page.getByTestId('user-name').textContent()).resolves.toBe(name);
     await expect(page.getByTestId('user-role').textContent()).resolves.toBe('Portfolio manager');
+
+    // They change it on the Password page (a wrong current password is named beside its field).
+    await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Password' }).click();
+    const change = page.getByRole('form', { name: 'Change password' });
+    await change.getByLabel('Current password').fill('not-my-password');
+    await change.getByLabel('New password', { exact: true }).fill(password);
+    await change.getByLabel('Repeat the new password').fill(password);
+    await change.getByRole('button', { name: 'Change password' }).click();
+    await change.getByText('is not correct', { exact: true }).waitFor();
+    await change.getByLabel('Current password').fill(firstPassword);
+    await change.getByRole('button', { name: 'Change password' }).click();
+    await change.getByText('Your password is changed').waitFor();
+    await page.getByRole('button', { name: 'Sign out' }).click();
+    await page.waitForURL((url) => url.pathname === '/sign-in');
+    await signInAs(email, password);
+    await page.waitForURL((url) => url.pathname === '/home');
 
     // The link worked once only.
     await context.clearCookies();

@@ -1,4 +1,4 @@
-import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
+import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
@@ -7,23 +7,29 @@ import { demoUser } from '../helpers/app';
 import type { Role } from '../../shared/schemas/common';
 
 // The foundation's own nav entries; other features add more, which these checks leave alone.
-const FOUNDATION_NAV = ['Home', 'Users', 'Outbox', 'Audit log', 'API tokens'] as const;
+const FOUNDATION_NAV = ['Home', 'Users', 'Outbox', 'Audit log', 'API tokens', 'Password'] as const;
 const EXPECTED: Record<Role, { landing: string; roleLabel: string; visible: string[] }> = {
-  admin: { landing: '/users', roleLabel: 'Administrator', visible: ['Home', 'Users', 'Outbox', 'Audit log', 'API tokens'] },
-  analyst: { landing: '/home', roleLabel: 'Risk analyst', visible: ['Home', 'API tokens'] },
-  pm: { landing: '/home', roleLabel: 'Portfolio manager', visible: ['Home', 'API tokens'] },
-  compliance: { landing: '/audit', roleLabel: 'Compliance', visible: ['Home', 'Audit log', 'API tokens'] },
+  admin: { landing: '/users', roleLabel: 'Administrator', visible: ['Home', 'Users', 'Outbox', 'Audit log', 'API tokens', 'Password'] },
+  analyst: { landing: '/home', roleLabel: 'Risk analyst', visible: ['Home', 'API tokens', 'Password'] },
+  pm: { landing: '/home', roleLabel: 'Portfolio manager', visible: ['Home', 'API tokens', 'Password'] },
+  compliance: { landing: '/audit', roleLabel: 'Compliance', visible: ['Home', 'Audit log', 'API tokens', 'Password'] },
 };
 
 let server: Awaited<ReturnType<typeof startServer>>;
 let browser: Awaited<ReturnType<typeof launchBrowser>>;
 let context: BrowserContext;
 let page: Page;
+let pageErrors: string[] = [];
 
 beforeAll(async () => {
   server = await startServer();
   browser = await launchBrowser();
   context = browser.context;
+  // Warm-up outside the tests: a cold browser and server on a busy machine can take long for the first page.
+  const warm = await context.newPage();
+  await warm.goto(`${server.url}/sign-in`, { timeout: 90_000 });
+  await warm.getByLabel('E-mail').waitFor({ timeout: 90_000 });
+  await warm.close();
 });
 afterAll(async () => {
   await browser?.close();
@@ -32,6 +38,12 @@ afterAll(async () => {
 beforeEach(async () => {
   await context.clearCookies();
   page = await context.newPage();
+  pageErrors = [];
+  page.on('pageerror', (error) => pageErrors.push(error.message));
+});
+afterEach(() => {
+  // No uncaught exception in the page during any of these flows.
+  expect(pageErrors).toEqual([]);
 });
 
 const rail = () => page.getByRole('navigation', { name: 'Main' });

@@ -19,6 +19,7 @@ export const NAV_ITEMS: NavItem[] = [
   { to: '/users', label: 'Users', section: 'Administration', roles: ['admin'] },
   { to: '/outbox', label: 'Outbox', section: 'Administration', roles: ['admin'] },
   { to: '/tokens', label: 'API tokens', section: 'Account', roles: ALL },
+  { to: '/account/password', label: 'Password', section: 'Account', roles: ALL },
 ];
 
 /** The rail for one role: sections in SECTIONS order, empty sections left out. */

@@ -19,6 +19,7 @@ export const shellRoutes: RouteObject[] = [
   { path: '/home', lazy: page(() => import('../features/home/HomePage')) },
   { path: '/users', lazy: page(() => import('../features/users/UsersPage')) },
   { path: '/tokens', lazy: page(() => import('../features/tokens/TokensPage')) },
+  { path: '/account/password', lazy: page(() => import('../features/account/PasswordPage')) },
   { path: '/audit', lazy: page(() => import('../features/audit/AuditPage')) },
   { path: '/outbox', lazy: page(() => import('../features/outbox/OutboxPage')) },
   { path: '/models', lazy: page(() => import('../features/models/ModelRunsPage')) },

@@ -1,6 +1,6 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { PublicUser, SignInBody, SignInResponse } from '@shared/schemas/auth';
-import type { PasswordLinkInfo, PasswordResetRequestBody, SetPasswordBody } from '@shared/schemas/users';
+import type { ChangePasswordBody, PasswordLinkInfo, PasswordResetRequestBody, SetPasswordBody } from '@shared/schemas/users';
 import { api, ApiError } from '../../lib/api';
 
 export const sessionKeys = {
@@ -65,4 +65,13 @@ export function usePasswordLink(token: string | null) {
 /** POST /api/auth/set-password: uses the link once; earlier sessions of that user end. */
 export function useSetPassword() {
   return useMutation({ mutationFn: (body: SetPasswordBody) => api.post<{ ok: true; email: string }>('/auth/set-password', body) });
+}
+
+/** POST /api/auth/password: changes your own password; other sessions end, this one gets a fresh cookie. */
+export function useChangePassword() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (body: ChangePasswordBody) => api.post<SignInResponse>('/auth/password', body),
+    onSuccess: (answer) => queryClient.setQueryData(sessionKeys.me, answer.user),
+  });
 }
