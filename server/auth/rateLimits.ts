@@ -43,6 +43,9 @@ function limiter(spec: LimitSpec): RequestHandler {
     keyGenerator: spec.scope === 'ip' ? clientKey : (req) => `account:${bodyEmail(req)}`,
     skip: spec.scope === 'account' ? (req) => bodyEmail(req) === null : undefined,
     handler: (req, _res, next) => {
+      // Audit the first refusal of each window only, so a flood of refused requests cannot flood the trail.
+      const current = (req as Request & { rateLimit?: { current: number } }).rateLimit?.current;
+      if (current !== spec.limit + 1) return next(new HttpError(429, spec.message));
       recordAudit({ action: `auth.${spec.what}-throttled`, ip: requestIp(req), details: { scope: spec.scope, email: bodyEmail(req) } })
         .catch((error: unknown) => console.error(error))
         .finally(() => next(new HttpError(429, spec.message)));

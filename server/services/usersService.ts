@@ -150,6 +150,8 @@ export async function updateUser(userId: number, changes: UpdateUserBody, actor:
     }
     if (!audits.length) return userSummary(user);
     const updated = await user.$query(trx).patchAndFetch(patch);
+    // A deactivated user's outstanding invitation or reset links must not come back to life on reactivation.
+    if (patch.active === false) await PasswordLink.query(trx).patch({ used_at: new Date() }).where({ user_id: user.id }).whereNull('used_at');
     for (const audit of audits) await recordAudit({ actor, action: audit.action, objectType: 'user', objectId: user.id, ip, details: { email: user.email, ...audit.details } }, trx);
     return userSummary(updated);
   });

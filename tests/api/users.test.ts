@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
 import { testContext, signIn, unique, demoUser } from '../helpers/app';
-import { testMailSink, waitForMail } from '../helpers/mail';
+import { testMailSink, waitForMail, linkToken } from '../helpers/mail';
 import { createApp } from '../../server/app';
 import { upsertUser } from '../../server/services/authService';
 
@@ -101,6 +101,18 @@ describe('users admin', () => {
     await signIn(app, user);
     const actions = (await base.knex('audit_events').where({ object_type: 'user', object_id: String(user.id) }).orderBy('id')).map((e) => e.action);
     expect(actions).toEqual(expect.arrayContaining(['user.deactivated', 'user.reactivated']));
+  });
+
+  it('deactivation also voids an outstanding invitation link, even after reactivation', async () => {
+    const email = `${unique('voided')}@quillfield.example`;
+    const invited = await request(app).post('/api/users').set(bearer(admin)).send({ email, name: 'Lee Voided', role: 'pm' });
+    const [mail] = await waitForMail(base.knex, email);
+    const secret = linkToken(mail.text);
+    expect((await request(app).post('/api/auth/password-link').send({ token: secret })).status).toBe(200);
+    await request(app).patch(`/api/users/${invited.body.id}`).set(bearer(admin)).send({ active: false });
+    expect((await request(app).post('/api/auth/password-link').send({ token: secret })).status).toBe(400);
+    await request(app).patch(`/api/users/${invited.body.id}`).set(bearer(admin)).send({ active: true });
+    expect((await request(app).post('/api/auth/set-password').send({ token: secret, password: 'lee-tries-this' })).status).toBe(400);
   });
 
   it('renames, and answers 404 for an unknown user and 422 for an empty change', async () => {
