@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import type { DenseCovarianceModel, FactorModel } from './types';
-import { biasStatistic, evaluateForecasts, kupiecTest, minimumVarianceWeights, qlikeLoss, rollingWindows } from './evaluation';
+import { biasStatistic, rollingBiasStatistic, evaluateForecasts, kupiecTest, minimumVarianceWeights, qlikeLoss, rollingWindows } from './evaluation';
 import { denseCovariance } from './lowRank';
 import { portfolioRisk } from './risk';
 import { plantedPanel } from './planted';
@@ -19,6 +19,13 @@ describe('bias statistic', () => {
     expect(b.upper).toBeCloseTo(1 + Math.SQRT1_2, 15);
     expect(b.withinBand).toBe(true);
     expect(() => biasStatistic([1, 2], [1, 0])).toThrow(/period 1/);
+  });
+  it('rolls over windows', () => {
+    // Window 2 over outcomes (1, −1, 3): s.d. of (1, −1) = √2, of (−1, 3) = √8; the first entry has no full window.
+    const rolling = rollingBiasStatistic([1, -1, 3], [1, 1, 1], 2);
+    expect(rolling[0]).toBeNaN();
+    expect(rolling[1]).toBeCloseTo(Math.SQRT2, 15);
+    expect(rolling[2]).toBeCloseTo(Math.sqrt(8), 15);
   });
   it('matches numpy', () => {
     const e = fixture.evaluation;

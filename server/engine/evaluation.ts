@@ -48,6 +48,23 @@ export function biasStatistic(realisedReturns: ArrayLike<number>, forecastVolati
   return { value, observations: t, lower: 1 - half, upper: 1 + half, withinBand: value >= 1 - half && value <= 1 + half };
 }
 
+/**
+ * Bias statistic over rolling windows of `window` periods ending at each period from window − 1 on (for a chart of
+ * how forecast quality drifts); entries before the first full window are NaN. Same definition and band as biasStatistic.
+ */
+export function rollingBiasStatistic(realisedReturns: ArrayLike<number>, forecastVolatility: ArrayLike<number>, window: number): Float64Array {
+  assertSameLength(realisedReturns, forecastVolatility, 'rolling bias statistic');
+  if (!(Number.isInteger(window) && window >= 2)) throw new Error(`rolling bias statistic: window must be an integer ≥ 2, got ${window}`);
+  const t = realisedReturns.length;
+  const out = new Float64Array(t).fill(NaN);
+  for (let end = window; end <= t; end++) {
+    const r = Array.prototype.slice.call(realisedReturns, end - window, end) as number[];
+    const s = Array.prototype.slice.call(forecastVolatility, end - window, end) as number[];
+    out[end - 1] = biasStatistic(r, s).value;
+  }
+  return out;
+}
+
 export interface QlikeLoss {
   /** Mean of ln h_t + r̂²_t / h_t: ranks forecasts the same way as the normalised form (they differ by a term free of h). */
   mean: number;

@@ -65,6 +65,7 @@ export { sampleReturns, semidefiniteCholesky, type SamplingOptions } from './sam
 export { factorScores, type FactorScores } from './scores';
 export {
   biasStatistic,
+  rollingBiasStatistic,
   qlikeLoss,
   kupiecTest,
   minimumVarianceWeights,

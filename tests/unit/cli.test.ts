@@ -145,6 +145,18 @@ describe('npm run cli -- risk', () => {
     expect(out.assumptions.join(' ')).toMatch(/not guarantees/);
   });
 
+  it('runs through the npm script and reports tracking error against a benchmark file over a horizon', () => {
+    const result = spawnSync('npm', ['run', '-s', 'cli', '--', 'risk', '--returns', `${fixtures}/returns.csv`, '--weights', `${fixtures}/weights.csv`, '--benchmark', `${fixtures}/benchmark.csv`, '--method', 'ppca', '--factors', '2', '--horizon', '10'], { cwd: repo, encoding: 'utf8' });
+    expect(result.stderr).toBe('');
+    expect(result.status).toBe(0);
+    const out = JSON.parse(result.stdout);
+    expect(out.trackingError.volatility).toBeGreaterThan(0);
+    expect(out.trackingError.annualised).toBeCloseTo(out.trackingError.volatility * Math.sqrt(252), 15);
+    expect(out.parametric[0].horizon).toBe(10);
+    // Square-root-of-time: VaR₉₅ over 10 periods = 1.6448536… · σ · √10 (zero mean).
+    expect(out.parametric[0].valueAtRisk).toBeCloseTo(1.6448536269514722 * out.volatility * Math.sqrt(10), 14);
+  });
+
   it('splits factor and specific variance for a factor model', () => {
     const r = cli(['risk', '--returns', `${fixtures}/returns.csv`, '--weights', `${fixtures}/weights.csv`, '--method', 'fa', '--factors', '2', '--periods-per-year', '52']);
     expect(r.status).toBe(0);
