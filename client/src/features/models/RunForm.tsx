@@ -62,8 +62,8 @@ function formSchema(assets: Asset[]) {
       if (v.weighting === 'exponential' && !(v.halfLife > 0)) issue('halfLife', 'the half-life must be a positive number of periods');
       if ((v.estimator === 'fa' || v.estimator === 'ppca') && v.factorsMode === 'number') {
         if (v.factors < 1) issue('factors', 'at least one factor');
-        else if (v.factors > MAX_FACTORS) issue('factors', `at most ${MAX_FACTORS} factors`);
         else if (universeSize > 0 && v.factors >= universeSize) issue('factors', `factors must be below the number of assets (${universeSize})`);
+        else if (v.factors > MAX_FACTORS) issue('factors', `at most ${MAX_FACTORS} factors`);
       }
     });
 }
