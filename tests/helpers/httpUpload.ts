@@ -75,8 +75,9 @@ export async function startServerProcess(env: NodeJS.ProcessEnv = {}): Promise<{
       try {
         const parsed = JSON.parse(line) as { port?: number };
         if (parsed.port) resolve(parsed.port);
+        else process.stderr.write(`[server] ${line}\n`);
       } catch {
-        // other output
+        process.stderr.write(`[server] ${line}\n`); // other output: pass it on
       }
     });
   });

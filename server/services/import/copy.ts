@@ -10,7 +10,7 @@ import { from as copyFrom } from 'pg-copy-streams';
 export async function createStaging(connection: pg.ClientBase): Promise<void> {
   await connection.query(`
     CREATE TEMP TABLE import_staging (row_no integer NOT NULL, sym integer NOT NULL, d integer NOT NULL, v double precision NOT NULL) ON COMMIT DROP;
-    CREATE TEMP TABLE import_symbols (sym integer PRIMARY KEY, symbol text NOT NULL, asset_id integer) ON COMMIT DROP;
+    CREATE TEMP TABLE import_symbols (sym integer PRIMARY KEY, symbol text NOT NULL, asset_id integer, created boolean NOT NULL DEFAULT false) ON COMMIT DROP;
   `);
 }
 

@@ -6,8 +6,8 @@ import type pg from 'pg';
 import type { Problem } from './parse';
 
 /** The staged observations as (asset_id, d, v, row_no); after convertPrices, the converted returns. */
-const RETURNS_SOURCE = 'SELECT m.asset_id, s.d, s.v, s.row_no FROM import_staging s JOIN import_symbols m USING (sym)';
-const PRICES_SOURCE = 'SELECT m.asset_id, s.d, s.v, s.row_no FROM import_returns s JOIN import_symbols m USING (sym)';
+const RETURNS_SOURCE = 'SELECT m.asset_id, m.created, s.d, s.v, s.row_no FROM import_staging s JOIN import_symbols m USING (sym)';
+const PRICES_SOURCE = 'SELECT m.asset_id, m.created, s.d, s.v, s.row_no FROM import_returns s JOIN import_symbols m USING (sym)';
 
 export function sourceQuery(valueKind: string): string {
   return valueKind === 'price' ? PRICES_SOURCE : RETURNS_SOURCE;
@@ -83,7 +83,7 @@ export async function createNewAssets(connection: pg.ClientBase): Promise<number
   const result = await connection.query(`
     INSERT INTO assets (symbol, name) SELECT symbol, symbol FROM import_symbols WHERE asset_id IS NULL ORDER BY symbol
     ON CONFLICT (symbol) DO NOTHING`);
-  await connection.query('UPDATE import_symbols s SET asset_id = a.id FROM assets a WHERE a.symbol = s.symbol AND s.asset_id IS NULL');
+  await connection.query('UPDATE import_symbols s SET asset_id = a.id, created = true FROM assets a WHERE a.symbol = s.symbol AND s.asset_id IS NULL');
   return result.rowCount ?? 0;
 }
 
@@ -97,30 +97,37 @@ export interface MergeCounts {
 /**
  * Merges the staged observations. skip: stored values win; replace: file values win, each change recorded as a
  * revision (old, new); reject: the caller has checked there is no overlap.
+ *
+ * Plain INSERTs, no ON CONFLICT (speculative insertion costs about twice as much per row): rows of assets created
+ * by this import cannot exist yet, and for the others an anti-join leaves out stored dates. The caller holds the
+ * dataset lock, so no other import writes these keys meanwhile.
  */
 export async function mergeObservations(connection: pg.ClientBase, source: string, policy: 'skip' | 'replace' | 'reject', batchId: number, total: number): Promise<MergeCounts> {
+  let replaced = 0;
   if (policy === 'replace') {
     const revisions = await connection.query(
       `INSERT INTO observation_revisions (batch_id, asset_id, date, old_value, new_value)
        SELECT $1, o.asset_id, o.date, o.value, s.v
          FROM (${source}) s JOIN return_observations o ON o.asset_id = s.asset_id AND o.date = date '1970-01-01' + s.d
-        WHERE o.value <> s.v`,
+        WHERE NOT s.created AND o.value <> s.v`,
       [batchId],
     );
-    const replaced = revisions.rowCount ?? 0;
-    const written = await connection.query(`
-      INSERT INTO return_observations (asset_id, date, value)
-      SELECT s.asset_id, date '1970-01-01' + s.d, s.v FROM (${source}) s
-      ON CONFLICT (asset_id, date) DO UPDATE SET value = EXCLUDED.value WHERE return_observations.value <> EXCLUDED.value`);
-    const changed = written.rowCount ?? 0;
-    return { inserted: changed - replaced, replaced, unchanged: total - changed, skipped: 0 };
+    replaced = revisions.rowCount ?? 0;
+    if (replaced > 0) {
+      await connection.query(`
+        UPDATE return_observations o SET value = s.v FROM (${source}) s
+         WHERE NOT s.created AND o.asset_id = s.asset_id AND o.date = date '1970-01-01' + s.d AND o.value <> s.v`);
+    }
   }
-  const written = await connection.query(`
+  const fresh = await connection.query(`INSERT INTO return_observations (asset_id, date, value) SELECT s.asset_id, date '1970-01-01' + s.d, s.v FROM (${source}) s WHERE s.created`);
+  const known = await connection.query(`
     INSERT INTO return_observations (asset_id, date, value)
     SELECT s.asset_id, date '1970-01-01' + s.d, s.v FROM (${source}) s
-    ON CONFLICT (asset_id, date) DO NOTHING`);
-  const inserted = written.rowCount ?? 0;
-  return { inserted, replaced: 0, unchanged: 0, skipped: total - inserted };
+     WHERE NOT s.created AND NOT EXISTS (SELECT 1 FROM return_observations o WHERE o.asset_id = s.asset_id AND o.date = date '1970-01-01' + s.d)`);
+  const inserted = (fresh.rowCount ?? 0) + (known.rowCount ?? 0);
+  const existing = total - inserted;
+  if (policy === 'replace') return { inserted, replaced, unchanged: existing - replaced, skipped: 0 };
+  return { inserted, replaced: 0, unchanged: 0, skipped: existing };
 }
 
 /** Marks the assets this batch wrote. */
