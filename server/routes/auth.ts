@@ -1,12 +1,12 @@
 import type { Config } from '../config';
+import type { Response } from 'express';
 import { apiRouter } from '../http/route';
-import { unauthorized } from '../http/errors';
 import { SignInBodySchema, SignInResponseSchema, PublicUserSchema } from '../../shared/schemas/auth';
 import { OkSchema } from '../../shared/schemas/common';
-import { issueSessionToken, verifyCredentials, findUserByEmail } from '../services/authService';
+import { issueSessionToken, signInWithPassword } from '../services/authService';
 import { recordAudit, requestIp } from '../services/auditService';
 import { SESSION_COOKIE } from '../auth/passport';
-import { User } from '../models/User';
+import type { User } from '../models/User';
 import { signInLimiters, passwordResetLimiters } from '../auth/rateLimits';
 import {
   ChangePasswordBodySchema,
@@ -26,6 +26,12 @@ export function authRoutes(config: Config) {
     secure: config.publicUrl.startsWith('https://'),
     path: '/',
   };
+  /** Issues a session token and sets it as the httpOnly cookie; answers the token for scripts. */
+  const startSession = (res: Response, user: User) => {
+    const token = issueSessionToken(user, config.jwtSecret, config.sessionTtlSeconds);
+    res.cookie(SESSION_COOKIE, token, { ...cookieOptions, maxAge: config.sessionTtlSeconds * 1000 });
+    return token;
+  };
 
   api.route({
     method: 'post',
@@ -37,17 +43,8 @@ export function authRoutes(config: Config) {
     response: SignInResponseSchema,
     before: signInLimiters(config),
     handler: async ({ body, req, res }) => {
-      const user = await verifyCredentials(body.email, body.password);
-      if (!user) {
-        const known = await findUserByEmail(body.email);
-        await recordAudit({ actor: known ? { id: known.id, email: known.email } : null, action: 'auth.sign-in-failed', ip: requestIp(req), details: { email: body.email.slice(0, 320) } });
-        throw unauthorized('E-mail or password is not correct');
-      }
-      await User.query().patch({ last_sign_in_at: new Date() }).where({ id: user.id });
-      await recordAudit({ actor: user, action: 'auth.sign-in', objectType: 'user', objectId: user.id, ip: requestIp(req) });
-      const token = issueSessionToken(user, config.jwtSecret, config.sessionTtlSeconds);
-      res.cookie(SESSION_COOKIE, token, { ...cookieOptions, maxAge: config.sessionTtlSeconds * 1000 });
-      return { token, user: user.toPublic() };
+      const user = await signInWithPassword(body.email, body.password, requestIp(req));
+      return { token: startSession(res, user), user: user.toPublic() };
     },
   });
 
@@ -74,9 +71,7 @@ export function authRoutes(config: Config) {
     response: SignInResponseSchema,
     handler: async ({ body, user, req, res }) => {
       const updated = await changeOwnPassword(user, body.currentPassword, body.newPassword, requestIp(req));
-      const token = issueSessionToken(updated, config.jwtSecret, config.sessionTtlSeconds);
-      res.cookie(SESSION_COOKIE, token, { ...cookieOptions, maxAge: config.sessionTtlSeconds * 1000 });
-      return { token, user: updated.toPublic() };
+      return { token: startSession(res, updated), user: updated.toPublic() };
     },
   });
 

@@ -4,6 +4,7 @@ import type { Writable } from 'node:stream';
 import { finished } from 'node:stream/promises';
 import { stringify } from 'csv-stringify';
 import { AuditEvent } from '../models/AuditEvent';
+import { containsPattern } from '../db/like';
 import type { AuditFilter, AuditQuery, AuditPage, AuditEventView } from '../../shared/schemas/audit';
 
 export interface AuditEntry {
@@ -44,13 +45,9 @@ function bound(value: string, end: boolean): Date {
   return new Date(value);
 }
 
-function escapeLike(text: string): string {
-  return text.replace(/[\\%_]/g, (c) => `\\${c}`);
-}
-
 function filtered(filter: AuditFilter) {
   const query = AuditEvent.query();
-  if (filter.actor) query.whereRaw(`actor_email ILIKE ? ESCAPE '\\'`, [`%${escapeLike(filter.actor)}%`]);
+  if (filter.actor) query.whereRaw(`actor_email ILIKE ? ESCAPE '\\'`, [containsPattern(filter.actor)]);
   if (filter.action) query.where('action', filter.action);
   if (filter.objectType) query.where('object_type', filter.objectType);
   if (filter.objectId) query.where('object_id', filter.objectId);

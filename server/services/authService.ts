@@ -1,6 +1,8 @@
 import bcrypt from 'bcryptjs';
 import jwt from 'jsonwebtoken';
 import { User } from '../models/User';
+import { unauthorized } from '../http/errors';
+import { recordAudit } from './auditService';
 
 const BCRYPT_ROUNDS = 11;
 // Compared against when the e-mail is unknown, so both failures take the same time.
@@ -14,15 +16,23 @@ export async function findUserByEmail(email: string): Promise<User | undefined> 
   return User.query().whereRaw('lower(email) = lower(?)', [email.trim()]).first();
 }
 
-/** The user when the e-mail and password match an active account, else null (callers answer a generic 401). */
-export async function verifyCredentials(email: string, password: string): Promise<User | null> {
+/**
+ * Checks e-mail and password, records the attempt in the audit trail and the last sign-in time.
+ * Wrong password, unknown or deactivated user and a user without a password all answer the same 401.
+ */
+export async function signInWithPassword(email: string, password: string, ip: string | null): Promise<User> {
   const user = await findUserByEmail(email);
   const ok = await bcrypt.compare(password, user?.password_hash ?? DUMMY_HASH);
-  if (!user || !user.password_hash || !ok || !user.active) return null;
+  if (!user || !user.password_hash || !ok || !user.active) {
+    await recordAudit({ actor: user ? { id: user.id, email: user.email } : null, action: 'auth.sign-in-failed', ip, details: { email: email.slice(0, 320) } });
+    throw unauthorized('E-mail or password is not correct');
+  }
+  // Straight to the table: a sign-in is not a change of the user's record (updated_at stays).
+  await User.knexQuery().where({ id: user.id }).update({ last_sign_in_at: new Date() });
+  await recordAudit({ actor: user, action: 'auth.sign-in', objectType: 'user', objectId: user.id, ip });
   return user;
 }
 
-/** A signed session; `iat_ms` lets sessions_valid_after cut off sessions issued earlier in the same second. */
 export function issueSessionToken(user: User, secret: string, ttlSeconds: number): string {
   return jwt.sign({ sub: String(user.id), role: user.role, iat_ms: Date.now() }, secret, { algorithm: 'HS256', expiresIn: ttlSeconds });
 }

@@ -1,5 +1,6 @@
 import { OutboxMessage } from '../models/OutboxMessage';
 import { notFound } from '../http/errors';
+import { containsPattern } from '../db/like';
 import type { OutboxMessageView, OutboxPage, OutboxQuery } from '../../shared/schemas/outbox';
 
 function outboxView(message: OutboxMessage): OutboxMessageView {
@@ -18,7 +19,7 @@ function outboxView(message: OutboxMessage): OutboxMessageView {
 export async function listOutbox(query: OutboxQuery): Promise<OutboxPage> {
   const filtered = () => {
     const q = OutboxMessage.query();
-    if (query.to) q.whereRaw(`to_address ILIKE ? ESCAPE '\\'`, [`%${query.to.replace(/[\\%_]/g, (c) => `\\${c}`)}%`]);
+    if (query.to) q.whereRaw(`to_address ILIKE ? ESCAPE '\\'`, [containsPattern(query.to)]);
     return q;
   };
   const [rows, total] = await Promise.all([
