@@ -44,6 +44,15 @@ function secretFromDataDir(dataDir: string): string {
   return secret;
 }
 
+/** A whole number > 0 from the environment, or the default; anything else stops the start with a clear message. */
+function positiveInteger(env: NodeJS.ProcessEnv, name: string, fallback: number): number {
+  const raw = env[name];
+  if (raw === undefined || raw === '') return fallback;
+  const value = Number(raw);
+  if (!Number.isInteger(value) || value <= 0) throw new Error(`${name} must be a whole number above 0 (got "${raw}")`);
+  return value;
+}
+
 export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
   const dataDir = env.LOADLINE_DATA_DIR ?? join(repoRoot, '.data');
   const port = Number(env.PORT ?? 5180);
@@ -63,14 +72,14 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     uploadLimitBytes: Number(env.UPLOAD_LIMIT_MB ?? 200) * 1024 * 1024,
     trustProxy: env.TRUST_PROXY === 'true',
     corsOrigins: (env.CORS_ORIGINS ?? '').split(',').map((s) => s.trim()).filter(Boolean),
-    invitationTtlHours: Number(env.INVITATION_TTL_HOURS ?? 72),
-    passwordResetTtlMinutes: Number(env.PASSWORD_RESET_TTL_MINUTES ?? 60),
+    invitationTtlHours: positiveInteger(env, 'INVITATION_TTL_HOURS', 72),
+    passwordResetTtlMinutes: positiveInteger(env, 'PASSWORD_RESET_TTL_MINUTES', 60),
     rateLimits: {
-      windowSeconds: Number(env.RATE_LIMIT_WINDOW_SECONDS ?? 15 * 60),
-      signInFailuresPerIp: Number(env.SIGN_IN_MAX_FAILURES_PER_IP ?? 20),
-      signInFailuresPerAccount: Number(env.SIGN_IN_MAX_FAILURES_PER_ACCOUNT ?? 5),
-      passwordResetsPerIp: Number(env.PASSWORD_RESET_MAX_PER_IP ?? 10),
-      passwordResetsPerAccount: Number(env.PASSWORD_RESET_MAX_PER_ACCOUNT ?? 3),
+      windowSeconds: positiveInteger(env, 'RATE_LIMIT_WINDOW_SECONDS', 15 * 60),
+      signInFailuresPerIp: positiveInteger(env, 'SIGN_IN_MAX_FAILURES_PER_IP', 20),
+      signInFailuresPerAccount: positiveInteger(env, 'SIGN_IN_MAX_FAILURES_PER_ACCOUNT', 5),
+      passwordResetsPerIp: positiveInteger(env, 'PASSWORD_RESET_MAX_PER_IP', 10),
+      passwordResetsPerAccount: positiveInteger(env, 'PASSWORD_RESET_MAX_PER_ACCOUNT', 3),
     },
   };
 }
