@@ -24,9 +24,20 @@ export interface ReturnsFile {
 // A plain decimal number: optional sign, digits with an optional fraction, optional exponent. Rejects "", "0x10", "5%".
 const DECIMAL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 
-function parseRecords(text: string, what: string): string[][] {
+interface CsvRecord {
+  cells: string[];
+  /** Line of the file on which the record ends (1-based, blank lines counted): its line for one-line records. */
+  line: number;
+}
+
+function parseRecords(text: string, what: string): CsvRecord[] {
   try {
-    return parse(text, { skip_empty_lines: true, trim: true, bom: true, relax_column_count: false }) as string[][];
+    const rows = parse(text, { skip_empty_lines: true, trim: true, bom: true, relax_column_count: false, info: true }) as unknown as {
+      record: string[];
+      info: { lines: number };
+    }[];
+    // info.lines is the line where the record ends; records here never span lines except inside quoted fields.
+    return rows.map(({ record, info }) => ({ cells: record, line: info.lines }));
   } catch (error) {
     const e = error as { message?: string; lines?: number };
     throw new InputError(`${what}: not a well-formed CSV${e.lines ? ` (near line ${e.lines})` : ''}: ${e.message ?? String(error)}`);
@@ -37,7 +48,7 @@ function parseRecords(text: string, what: string): string[][] {
 export function parseReturnsCsv(text: string, source = 'returns file'): ReturnsFile {
   const records = parseRecords(text, source);
   if (records.length === 0) throw new InputError(`${source}: the file is empty`);
-  const header = records[0];
+  const header = records[0].cells;
   if (header[0].toLowerCase() !== 'date') throw new InputError(`${source}: the first header cell must be "date", got "${header[0]}"`);
   const symbols = header.slice(1);
   if (symbols.length === 0) throw new InputError(`${source}: the header names no asset columns after "date"`);
@@ -54,8 +65,7 @@ export function parseReturnsCsv(text: string, source = 'returns file'): ReturnsF
   const dates: string[] = [];
   const seenDates = new Set<string>();
   let missingCells = 0;
-  rows.forEach((row, r) => {
-    const line = r + 2; // header is line 1 (blank lines are skipped)
+  rows.forEach(({ cells: row, line }, r) => {
     const date = row[0];
     if (date === '') throw new InputError(`${source}: row ${line} has an empty date`);
     if (seenDates.has(date)) throw new InputError(`${source}: row ${line}: date ${date} appears more than once`);
@@ -79,7 +89,7 @@ export function parseReturnsCsv(text: string, source = 'returns file'): ReturnsF
   if (iso) {
     for (let r = 1; r < t; r++) {
       if (dates[r] <= dates[r - 1]) {
-        throw new InputError(`${source}: row ${r + 2}: dates must increase (the last row is the most recent), but ${dates[r]} follows ${dates[r - 1]}`);
+        throw new InputError(`${source}: row ${rows[r].line}: dates must increase (the last row is the most recent), but ${dates[r]} follows ${dates[r - 1]}`);
       }
     }
   }
@@ -93,16 +103,15 @@ export function parseReturnsCsv(text: string, source = 'returns file'): ReturnsF
 export function parseWeightsCsv(text: string, symbols: readonly string[], source = 'weights file'): Float64Array {
   const records = parseRecords(text, source);
   if (records.length === 0) throw new InputError(`${source}: the file is empty`);
-  const header = records[0].map((h) => h.toLowerCase());
+  const header = records[0].cells.map((h) => h.toLowerCase());
   if (header.length !== 2 || header[0] !== 'symbol' || header[1] !== 'weight') {
-    throw new InputError(`${source}: the header must be "symbol,weight", got "${records[0].join(',')}"`);
+    throw new InputError(`${source}: the header must be "symbol,weight", got "${records[0].cells.join(',')}"`);
   }
   const index = new Map(symbols.map((s, j) => [s, j] as const));
   const weights = new Float64Array(symbols.length);
   const given = new Set<string>();
-  records.slice(1).forEach((row, r) => {
-    const line = r + 2;
-    const [symbol, cell] = row;
+  records.slice(1).forEach(({ cells, line }) => {
+    const [symbol, cell] = cells;
     const j = index.get(symbol);
     if (j === undefined) throw new InputError(`${source}: row ${line}: symbol "${symbol}" is not a column of the returns file`);
     if (given.has(symbol)) throw new InputError(`${source}: row ${line}: symbol "${symbol}" is listed twice`);
