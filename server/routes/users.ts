@@ -2,7 +2,7 @@ import type { Config } from '../config';
 import { apiRouter } from '../http/route';
 import { IdParamsSchema } from '../../shared/schemas/common';
 import { InviteUserBodySchema, UpdateUserBodySchema, UserListSchema, UserSummarySchema } from '../../shared/schemas/users';
-import { inviteUser, listUsers, resendInvitation, updateUser } from '../services/usersService';
+import { inviteUser, listUsers, resendInvitation, sendPasswordReset, updateUser } from '../services/usersService';
 import { requestIp } from '../services/auditService';
 
 export function usersRoutes(config: Config) {
@@ -50,6 +50,17 @@ export function usersRoutes(config: Config) {
     params: IdParamsSchema,
     response: UserSummarySchema,
     handler: ({ params, user, req }) => resendInvitation(config, Number(params.id), user, requestIp(req)),
+  });
+
+  api.route({
+    method: 'post',
+    path: '/:id/password-reset',
+    access: ['admin'],
+    summary: 'Send a user a password-reset link',
+    description: `For an active user who has set a password; the link works once, for ${config.passwordResetTtlMinutes} minutes. The current password keeps working until the link is used.`,
+    params: IdParamsSchema,
+    response: UserSummarySchema,
+    handler: ({ params, user, req }) => sendPasswordReset(config, Number(params.id), user, requestIp(req)),
   });
 
   return api;

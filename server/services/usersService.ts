@@ -119,6 +119,19 @@ export async function resendInvitation(config: Config, userId: number, actor: Ac
   });
 }
 
+/** An admin sends a user a password-reset link (for an active user who has set a password). */
+export async function sendPasswordReset(config: Config, userId: number, actor: Actor, ip: string | null): Promise<UserSummary> {
+  return User.transaction(async (trx) => {
+    const user = await User.query(trx).findById(userId).forUpdate();
+    if (!user) throw notFound('No such user');
+    if (!user.active) throw conflict('This user is deactivated: reactivate first');
+    if (!user.password_hash) throw conflict('This user has not set a password yet: send a new invitation instead');
+    await recordAudit({ actor, action: 'user.password-reset-sent', objectType: 'user', objectId: user.id, ip, details: { email: user.email } }, trx);
+    await issueAndMailLink(config, user, 'reset', trx);
+    return userSummary(user);
+  });
+}
+
 /**
  * Renames, changes the role, deactivates or reactivates a user. Deactivation moves sessions_valid_after, so
  * the user's sessions die at once; API tokens die too because each request re-reads the active flag.

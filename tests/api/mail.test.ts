@@ -139,6 +139,24 @@ describe('password reset, end to end', () => {
     expect(await base.knex('audit_events').where({ action: 'user.password-reset', object_id: String(invited.body.id) })).toHaveLength(1);
   });
 
+  it('an admin can send a reset link; the current password works until the link is used', async () => {
+    const email = `${unique('adminreset')}@quillfield.example`;
+    const invited = await request(app).post('/api/users').set(bearer(admin)).send({ email, name: 'Nils Aro', role: 'pm' });
+    // Before a password exists, a reset makes no sense: a new invitation does.
+    expect((await request(app).post(`/api/users/${invited.body.id}/password-reset`).set(bearer(admin))).status).toBe(409);
+    const [invitation] = await waitForMail(base.knex, email);
+    await request(app).post('/api/auth/set-password').send({ token: linkToken(invitation.text), password: 'nils-first-pass' });
+
+    const sent = await request(app).post(`/api/users/${invited.body.id}/password-reset`).set(bearer(admin));
+    expect(sent.status).toBe(200);
+    const mails = await waitForMail(base.knex, email, { count: 2 });
+    expect(mails[1].subject).toBe('Choose a new Loadline password');
+    await signIn(app, { email, password: 'nils-first-pass' });
+    expect((await request(app).post('/api/auth/set-password').send({ token: linkToken(mails[1].text), password: 'nils-second-pass' })).status).toBe(200);
+    await signIn(app, { email, password: 'nils-second-pass' });
+    expect(await base.knex('audit_events').where({ action: 'user.password-reset-sent', object_id: String(invited.body.id) })).toHaveLength(1);
+  });
+
   it('answers the same for an unknown address and sends nothing', async () => {
     const email = `${unique('ghost')}@quillfield.example`;
     const res = await request(app).post('/api/auth/password-reset').send({ email });

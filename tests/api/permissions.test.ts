@@ -24,6 +24,7 @@ const TABLE: [string, Allowed][] = [
   ['POST /api/users', ['admin']],
   ['PATCH /api/users/:id', ['admin']],
   ['POST /api/users/:id/invitation', ['admin']],
+  ['POST /api/users/:id/password-reset', ['admin']],
   // Named API tokens (own tokens)
   ['GET /api/tokens', 'signed-in'],
   ['POST /api/tokens', 'signed-in'],
