@@ -72,8 +72,16 @@ export const COLUMN_TYPES: Record<string, ColTypeDef> = {
     cellClass: 'll-figure',
     filter: 'agTextColumnFilter',
     flex: 0,
-    width: 160,
-    minWidth: 160,
+    width: 150,
+    minWidth: 150,
+  },
+  /** ISO dates (`yyyy-MM-dd`). */
+  date: {
+    cellClass: 'll-figure',
+    filter: 'agTextColumnFilter',
+    flex: 0,
+    width: 112,
+    minWidth: 112,
   },
 };
 

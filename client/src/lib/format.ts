@@ -20,3 +20,9 @@ export function formatRelative(iso: string | null | undefined): string {
 export function formatCount(value: number): string {
   return value.toLocaleString('en-GB');
 }
+
+/** `2026-12-02` in the viewer's time zone. */
+export function formatDate(iso: string | null | undefined): string {
+  if (!iso) return '—';
+  return format(parseISO(iso), 'yyyy-MM-dd');
+}

@@ -23,12 +23,13 @@ export default function HomePage() {
       <div className="grid gap-4 md:grid-cols-2">
         {groups.map((group) => (
           <Card key={group.section} title={group.section}>
-            <ul className="flex flex-col gap-1.5 text-sm">
+            <ul className="flex flex-col gap-2 text-sm">
               {group.items.map((item) => (
-                <li key={item.to}>
+                <li key={item.to} className="flex flex-col">
                   <Link to={item.to} className="font-medium text-accent hover:underline">
                     {item.label}
                   </Link>
+                  {item.description ? <span className="text-xs text-ink-soft">{item.description}</span> : null}
                 </li>
               ))}
             </ul>

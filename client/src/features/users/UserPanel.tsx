@@ -35,7 +35,7 @@ export function UserPanel({ user, isSelf, onClose }: { user: UserSummary; isSelf
           Close
         </Button>
       }
-      className="w-full lg:w-80 lg:shrink-0"
+      className="w-full lg:w-72 lg:shrink-0"
     >
       <dl className="mb-4 grid grid-cols-[auto_1fr] gap-x-3 gap-y-1.5 text-sm">
         <dt className="text-ink-soft">E-mail</dt>

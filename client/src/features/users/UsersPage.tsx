@@ -8,7 +8,7 @@ import { Button } from '../../components/Button';
 import { Alert, ErrorAlert } from '../../components/Alert';
 import { DataGrid } from '../../components/DataGrid';
 import { useCurrentUser } from '../../app/currentUser';
-import { formatDateTime } from '../../lib/format';
+import { formatDate, formatDateTime } from '../../lib/format';
 import { useUsers } from './api';
 import { InviteUserForm } from './InviteUserForm';
 import { UserPanel } from './UserPanel';
@@ -24,19 +24,20 @@ export default function UsersPage() {
 
   const columns = useMemo<ColDef<UserSummary>[]>(
     () => [
-      { field: 'name', headerName: 'Name', minWidth: 160 },
-      { field: 'email', headerName: 'E-mail', minWidth: 220, flex: 1.4 },
-      { field: 'role', headerName: 'Role', valueFormatter: (p) => (p.value ? ROLE_LABELS[p.value as UserSummary['role']] : ''), getQuickFilterText: (p) => ROLE_LABELS[p.value as UserSummary['role']], minWidth: 150, maxWidth: 180 },
+      { field: 'name', headerName: 'Name', minWidth: 140 },
+      { field: 'email', headerName: 'E-mail', minWidth: 200, flex: 1.4 },
+      { field: 'role', headerName: 'Role', valueFormatter: (p) => (p.value ? ROLE_LABELS[p.value as UserSummary['role']] : ''), getQuickFilterText: (p) => ROLE_LABELS[p.value as UserSummary['role']], minWidth: 130, maxWidth: 180 },
       {
         field: 'status',
         headerName: 'Status',
         cellRenderer: (p: { value: UserSummary['status'] }) => <UserStatusBadge status={p.value} />,
         filterValueGetter: (p) => (p.data ? USER_STATUS_LABEL(p.data.status) : ''),
         getQuickFilterText: (p) => USER_STATUS_LABEL(p.value),
+        minWidth: 118,
         maxWidth: 150,
       },
       { field: 'lastSignInAt', headerName: 'Last sign-in', type: 'timestamp', valueFormatter: (p) => formatDateTime(p.value) },
-      { field: 'createdAt', headerName: 'Created', type: 'timestamp', valueFormatter: (p) => formatDateTime(p.value), sort: undefined },
+      { field: 'createdAt', headerName: 'Created', type: 'date', valueFormatter: (p) => formatDate(p.value) },
     ],
     [],
   );
