@@ -286,9 +286,11 @@ export interface MonteCarloRisk {
 }
 
 /**
- * Monte Carlo VaR/ES from the model's generative form (x = μ + Wz + ε; see sampling.ts): draws one-period return
- * vectors, values every portfolio on the same draws, and scales to h periods as h·m + √h·(r − m), which is exact in
- * distribution for i.i.d. Gaussian periods (the same square-root-of-time assumption as the parametric figures).
+ * Monte Carlo VaR/ES from the model's generative form (x = μ + Wz + ε; see sampling.ts): draws one-period returns of
+ * every portfolio on the same draws (portfolio-level by default, whole return vectors with method 'panel') and scales
+ * to h periods as h·m + √h·(r − m), exact in distribution for i.i.d. Gaussian periods (the same square-root-of-time
+ * assumption as the parametric figures). Because the model is Gaussian, these figures agree with the parametric ones
+ * up to sampling error (about √(α(1−α)/n)/(φ(z)·z) relative for VaR); they are a cross-check, seeded and repeatable.
  */
 export function monteCarloRisk(model: CovarianceModel, portfolios: readonly ArrayLike<number>[], options: MonteCarloOptions): MonteCarloRisk[] {
   const draws = options.draws ?? 10_000;
