@@ -118,6 +118,12 @@ describe('principal angles (Björck & Golub 1973), hand-worked', () => {
     const angles = principalAngles(Float64Array.from([1, 0, 0]), Float64Array.from([0, 1, 0]), 3, 1, 1);
     expect(angles[0]).toBeCloseTo(Math.PI / 2, 15);
   });
+  it('is π/2 twice between span(e1, e2) and span(e3, e4) in R⁴', () => {
+    const a = Float64Array.from([1, 0, 0, 1, 0, 0, 0, 0]);
+    const b = Float64Array.from([0, 0, 0, 0, 1, 0, 0, 1]);
+    const angles = principalAngles(a, b, 4, 2, 2);
+    expect(Array.from(angles)).toEqual([Math.PI / 2, Math.PI / 2]);
+  });
   it('is 0 and π/4 for span(e1, e2) vs span(e1, (e2 + e3)/√2)', () => {
     // The shared direction e1 gives 0; e2 and (e2 + e3)/√2 meet at 45°.
     const a = Float64Array.from([1, 0, 0, 1, 0, 0]); // 3 × 2 row-major: columns e1, e2
