@@ -44,10 +44,13 @@ export async function passwordMatches(user: User, password: string): Promise<boo
 
 /** Creates or resets a user's password and role (used for LOADLINE_ADMIN_* and the demo seed). */
 export async function upsertUser(input: { email: string; name: string; role: User['role']; password: string }): Promise<User> {
-  const passwordHash = await hashPassword(input.password);
   const existing = await findUserByEmail(input.email);
   if (existing) {
-    return existing.$query().patchAndFetch({ name: input.name, role: input.role, password_hash: passwordHash, active: true });
+    // A changed password ends the user's earlier sessions; restarting with the same one changes nothing.
+    const samePassword = await passwordMatches(existing, input.password);
+    const passwordChange = samePassword ? {} : { password_hash: await hashPassword(input.password), sessions_valid_after: new Date() };
+    return existing.$query().patchAndFetch({ name: input.name, role: input.role, active: true, ...passwordChange });
   }
+  const passwordHash = await hashPassword(input.password);
   return User.query().insertAndFetch({ email: input.email.trim(), name: input.name, role: input.role, password_hash: passwordHash, active: true });
 }

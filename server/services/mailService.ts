@@ -13,7 +13,7 @@ export interface OutgoingMail {
 const transports = new Map<string, Transporter>();
 
 /** SMTP_URL (smtp:// or smtps://, optional user:password) as nodemailer options; TLS is skipped only on loopback (the local sink). */
-function smtpOptions(smtpUrl: string) {
+export function smtpOptions(smtpUrl: string) {
   const url = new URL(smtpUrl);
   const secure = url.protocol === 'smtps:';
   const loopback = ['127.0.0.1', 'localhost', '[::1]', '::1'].includes(url.hostname);
