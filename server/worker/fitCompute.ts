@@ -6,7 +6,8 @@
 import type { CovarianceModel, FitProgress, ReturnsPanel, Weighting } from '../engine/types';
 import { fitModel, type MissingPolicy } from '../engine/fit';
 import { chooseFactorCount } from '../engine/factorCount';
-import { panelHasMissing } from '../engine/scatter';
+import { buildScatter, panelHasMissing } from '../engine/scatter';
+import { topSpectrum } from '../engine/ppca';
 import { factorScores } from '../engine/scores';
 import { communalities } from '../engine/rotation';
 import type { ModelDiagnostics, ModelRunParameters } from '../../shared/schemas/modelRuns';
@@ -151,11 +152,25 @@ export function computeModelRun(panel: ReturnsPanel, parameters: ModelRunParamet
   } else {
     for (let i = 0; i < n; i++) totalVariance += model.covariance[i * n + i];
   }
-  const eigenvalues = d.spectrum.length ? d.spectrum : (recommendation.eigenvalues ?? []);
+  let eigenvalues = d.spectrum.length ? d.spectrum : (recommendation.eigenvalues ?? []);
+  let spectrumSource: string | null = null;
+  let spectrumTrace: number | null = null;
+  let spectrumObservations = d.effectiveSampleSize;
+  if (!eigenvalues.length && hasMissing) {
+    // EM fits have no sample spectrum: read it from the dates on which every asset is observed, and say so.
+    const complete = completeRows(panel);
+    if (complete.observations >= 2) {
+      const scatter = buildScatter(complete, { weighting: undefined, mean: parameters.mean });
+      eigenvalues = Array.from(topSpectrum(scatter, Math.min(n, SPECTRUM_SIZE)).values);
+      spectrumTrace = scatter.trace;
+      spectrumObservations = complete.observations;
+      spectrumSource = `Spectrum of the ${complete.observations} dates on which every asset is observed (the fit itself used every observed value).`;
+    }
+  }
   let edge = recommendation.edge ?? null;
   let bulk = recommendation.bulk ?? null;
   if (edge === null && eigenvalues.length) {
-    const mp = marchenkoPastur(eigenvalues, hasMissing ? observedTrace(panel, model.mean) : totalTraceOfScatter(model, totalVariance), n, d.effectiveSampleSize);
+    const mp = marchenkoPastur(eigenvalues, spectrumTrace ?? (hasMissing ? observedTrace(panel, model.mean) : totalTraceOfScatter(model, totalVariance)), n, spectrumObservations);
     edge = mp.edge;
     bulk = mp.bulkVariance;
   }
@@ -175,6 +190,7 @@ export function computeModelRun(panel: ReturnsPanel, parameters: ModelRunParamet
       converged: d.converged,
       heywood: d.heywood,
       eigenvalues,
+      spectrumSource,
       marchenkoPasturEdge: edge,
       bulkVariance: bulk,
       noiseVariance: d.noiseVariance ?? null,

@@ -28,7 +28,7 @@ const ASSET_COLUMNS: ColDef<AssetRow>[] = [
   { field: 'communality', headerName: 'Communality', type: 'figure', valueFormatter: (p) => (p.value === null ? '—' : Number(p.value).toExponential(3)) },
   { field: 'specificVolatility', headerName: 'Specific vol (ann. %)', type: 'figure', valueGetter: (p) => percent(p.data?.specificVolatility ?? null), valueFormatter: (p) => (p.value === null ? '—' : formatNumber(p.value, 2)) },
   { field: 'factorShare', headerName: 'Factor share (%)', type: 'figure', valueGetter: (p) => percent(p.data?.factorShare ?? null), valueFormatter: (p) => (p.value === null ? '—' : formatNumber(p.value, 1)) },
-  { field: 'heywood', headerName: 'Heywood', minWidth: 100, valueFormatter: (p) => (p.value ? 'at floor' : '') },
+  { colId: 'heywood', headerName: 'Heywood', minWidth: 100, cellDataType: 'text', valueGetter: (p) => (p.data?.heywood ? 'at floor' : 'no') },
 ];
 
 function Summary({ run, results }: { run: ModelRun; results: ModelResults }) {
@@ -255,7 +255,10 @@ export default function ModelPage() {
             </div>
             <Card title="Eigenvalue spectrum">
               {results.data.diagnostics.eigenvalues?.length ? (
+                <>
+                {results.data.diagnostics.spectrumSource ? <p className="mb-2 text-xs text-ink-soft">{String(results.data.diagnostics.spectrumSource)}</p> : null}
                 <ScreePlot eigenvalues={results.data.diagnostics.eigenvalues} edge={results.data.diagnostics.marchenkoPasturEdge ?? null} factors={results.data.factors} />
+                </>
               ) : (
                 <p className="text-sm text-ink-faint">No spectrum: with missing data the fit works on the observed entries only.</p>
               )}
