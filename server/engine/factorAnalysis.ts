@@ -80,7 +80,7 @@ export function fitFactorAnalysis(scatter: Scatter, l: number, options: FactorAn
     theta.set(options.start.loadings, 0);
     theta.set(options.start.specificVariance, n * l);
   } else {
-    const ppca = fitPpca(scatter, l);
+    const ppca = fitPpca(scatter, l, l, { tolerance: 1e-6, direct: true });
     theta.set(ppca.loadings, 0);
     theta.fill(ppca.noiseVariance, n * l);
   }

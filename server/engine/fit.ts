@@ -183,7 +183,8 @@ export function fitModel(input: ReturnsPanel, options: FitOptions, control: FitC
 
   if (isFactor) {
     const scatter = buildScatter(panel, { weighting: options.weighting, mean: meanHandling, form: method === 'ppca' ? 'data' : 'auto', blockWidth: factors });
-    const ppca = fitPpca(scatter, factors, spectrumSize);
+    // FA only needs PPCA as a warm start: a looser eigen tolerance on the scatter's own operator is enough.
+    const ppca = method === 'ppca' ? fitPpca(scatter, factors, spectrumSize) : fitPpca(scatter, factors, spectrumSize, { tolerance: 1e-7, direct: true });
     const spectrum = Array.from(ppca.spectrum);
     if (method === 'ppca') {
       const psi = new Float64Array(n).fill(ppca.noiseVariance);

@@ -6,7 +6,8 @@
  * When T < N they come from the T × T Gram matrix G = Z Zᵀ (Connor & Korajczyk 1986, "Performance measurement with
  * the arbitrage pricing theory", J. Financial Economics 15): G u = λ u gives S v = λ v with v = Zᵀ u / √λ.
  */
-import { multiplyABt, rowGram } from './linalg/dense';
+import { multiplyABt } from './linalg/dense';
+import { parallelMultiplyABt } from './linalg/parallel';
 import { denseOperator, topEigenpairs } from './linalg/eigen';
 import { canonicalLoadings } from './orientation';
 import { denseScatter, type Scatter } from './scatter';
@@ -17,23 +18,28 @@ export interface Spectrum {
   /** The matching eigenvectors (N × k, row-major). */
   vectors: Float64Array;
   /** Which matrix the eigenproblem was solved on. */
-  via: 'gram' | 'covariance';
+  via: 'gram' | 'covariance' | 'operator';
 }
 
 /** Top-k eigenpairs of the scatter S, using the smaller of the N × N and T × T problems. */
-export function topSpectrum(scatter: Scatter, k: number, tolerance = 1e-11): Spectrum {
+export function topSpectrum(scatter: Scatter, k: number, tolerance = 1e-11, direct = false): Spectrum {
   const n = scatter.size;
   const t = scatter.observations;
   if (k === 0) return { values: new Float64Array(0), vectors: new Float64Array(0), via: 'covariance' };
+  if (direct) {
+    // Krylov on the scatter as it is held (data or dense), no Gram/covariance formation: for warm starts.
+    const eig = topEigenpairs(scatter, k, { tolerance, basisSize: Math.min(n, 6 * Math.max(8, k + 4)) });
+    return { values: eig.values.map((v) => Math.max(v, 0)), vectors: eig.vectors, via: scatter.dense ? 'covariance' : 'operator' };
+  }
   if (scatter.data && t < n && !scatter.dense) {
     const { z } = scatter.data;
-    const g = rowGram(z, t, n);
+    const g = parallelMultiplyABt(z, t, n, z, t, true);
     const kk = Math.min(k, t);
     const eig = topEigenpairs(denseOperator(g, t), kk, { tolerance });
     // v_j = Zᵀ u_j / √λ_j, as rows (k × N): Uᵀ Z
     const ut = new Float64Array(kk * t);
     for (let r = 0; r < t; r++) for (let j = 0; j < kk; j++) ut[j * t + r] = eig.vectors[r * kk + j];
-    const vt = multiplyABt(ut, kk, t, scatter.data.zt, n);
+    const vt = parallelMultiplyABt(ut, kk, t, scatter.data.zt, n);
     const vectors = new Float64Array(n * k);
     const values = new Float64Array(k);
     for (let j = 0; j < kk; j++) {
@@ -56,15 +62,22 @@ export interface PpcaResult {
   /** Top eigenvalues of S used (length ≥ L). */
   spectrum: Float64Array;
   logLikelihood: number;
-  via: 'gram' | 'covariance';
+  via: 'gram' | 'covariance' | 'operator';
+}
+
+export interface PpcaOptions {
+  /** Relative residual tolerance of the eigenpairs (default 1e-11). */
+  tolerance?: number;
+  /** Use the scatter's own operator without forming a Gram or covariance matrix (cheap warm starts). */
+  direct?: boolean;
 }
 
 /** Closed-form PPCA from a scatter. `spectrumSize` ≥ L eigenvalues are returned for diagnostics. */
-export function fitPpca(scatter: Scatter, l: number, spectrumSize = l): PpcaResult {
+export function fitPpca(scatter: Scatter, l: number, spectrumSize = l, options: PpcaOptions = {}): PpcaResult {
   const n = scatter.size;
   if (!(Number.isInteger(l) && l >= 0 && l < n)) throw new Error(`number of factors must be an integer in [0, ${n - 1}], got ${l}`);
   const k = Math.min(Math.max(l, spectrumSize), n);
-  const spec = topSpectrum(scatter, k);
+  const spec = topSpectrum(scatter, k, options.tolerance ?? 1e-11, options.direct ?? false);
   let top = 0;
   for (let j = 0; j < l; j++) top += spec.values[j];
   const sigma2 = Math.max((scatter.trace - top) / (n - l), 1e-300);

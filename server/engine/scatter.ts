@@ -6,7 +6,8 @@
  * Factor models only ever need S applied to a thin block (S·B with B N × L), its diagonal and its trace:
  * applying through the data costs 4·T·N·L flops, through a dense S 2·N²·L flops after N²·T to form it.
  */
-import { multiplyABt, rowGram, transpose } from './linalg/dense';
+import { transpose } from './linalg/dense';
+import { parallelMultiplyABt, sharedFloat64 } from './linalg/parallel';
 import type { SymmetricOperator } from './linalg/eigen';
 import type { MeanHandling, ReturnsPanel, Weighting } from './types';
 import { effectiveSampleSize, observationWeights } from './weights';
@@ -79,7 +80,7 @@ export function buildScatter(panel: ReturnsPanel, options: ScatterOptions = {}):
   const { values, observations: t, assets: n } = panel;
   const weights = observationWeights(t, options.weighting);
   const mean = weightedMean(panel, weights, options.mean ?? 'sample');
-  const z = new Float64Array(t * n);
+  const z = sharedFloat64(t * n);
   const diagonal = new Float64Array(n);
   for (let r = 0; r < t; r++) {
     const sw = Math.sqrt(weights[r]);
@@ -92,7 +93,7 @@ export function buildScatter(panel: ReturnsPanel, options: ScatterOptions = {}):
   }
   let traceS = 0;
   for (let i = 0; i < n; i++) traceS += diagonal[i];
-  const zt = transpose(z, t, n);
+  const zt = transpose(z, t, n, sharedFloat64(t * n));
   const base = {
     size: n,
     observations: t,
@@ -111,15 +112,15 @@ export function buildScatter(panel: ReturnsPanel, options: ScatterOptions = {}):
         ? 'dense'
         : 'data';
   if (form === 'dense') {
-    const dense = rowGram(zt, n, t);
-    return { ...base, dense, apply: (blockT, k) => multiplyABt(blockT, k, n, dense, n) };
+    const dense = parallelMultiplyABt(zt, n, t, zt, n, true);
+    return { ...base, dense, apply: (blockT, k) => parallelMultiplyABt(blockT, k, n, dense, n) };
   }
   return {
     ...base,
     data: { z, zt },
     apply: (blockT, k) => {
-      const y = multiplyABt(blockT, k, n, z, t); // k × T = Bᵀ Zᵀ
-      return multiplyABt(y, k, t, zt, n); // k × N = Bᵀ Zᵀ Z
+      const y = parallelMultiplyABt(blockT, k, n, z, t); // k × T = Bᵀ Zᵀ
+      return parallelMultiplyABt(y, k, t, zt, n); // k × N = Bᵀ Zᵀ Z
     },
   };
 }
@@ -128,7 +129,7 @@ export function buildScatter(panel: ReturnsPanel, options: ScatterOptions = {}):
 export function denseScatter(scatter: Scatter): Float64Array {
   if (scatter.dense) return scatter.dense;
   const { zt } = scatter.data!;
-  scatter.dense = rowGram(zt, scatter.size, scatter.observations);
+  scatter.dense = parallelMultiplyABt(zt, scatter.size, scatter.observations, zt, scatter.size, true);
   return scatter.dense;
 }
 
@@ -138,7 +139,8 @@ export function denseScatter(scatter: Scatter): Float64Array {
  */
 export function scatterFromCovariance(covariance: Float64Array, n: number, observations: number): Scatter {
   if (covariance.length !== n * n) throw new Error(`covariance has ${covariance.length} entries, expected ${n} × ${n}`);
-  const dense = Float64Array.from(covariance);
+  const dense = sharedFloat64(n * n);
+  dense.set(covariance);
   const diagonal = new Float64Array(n);
   let traceS = 0;
   for (let i = 0; i < n; i++) {
@@ -154,6 +156,6 @@ export function scatterFromCovariance(covariance: Float64Array, n: number, obser
     weights: new Float64Array(observations).fill(1 / observations),
     effectiveSampleSize: observations,
     dense,
-    apply: (blockT, k) => multiplyABt(blockT, k, n, dense, n),
+    apply: (blockT, k) => parallelMultiplyABt(blockT, k, n, dense, n),
   };
 }

@@ -7,8 +7,6 @@
  * shape run at about 3–4 GFLOP/s per core on this machine, against about 1 GFLOP/s for a naive i-k-j loop.
  */
 
-const DEPTH_BLOCK = 512;
-
 /**
  * C (m × n) = A (m × k) · Bᵀ where B is n × k; both operands row-major, so every inner product reads two
  * contiguous rows. When `symmetric` is set (A and B are the same matrix) only the lower triangle is computed and
@@ -26,9 +24,34 @@ export function multiplyABt(
   rowEnd = m,
 ): Float64Array {
   const c = out ?? new Float64Array(m * n);
-  for (let i = rowStart * n; i < rowEnd * n; i++) c[i] = 0;
-  for (let p0 = 0; p0 < k; p0 += DEPTH_BLOCK) {
-    const p1 = Math.min(k, p0 + DEPTH_BLOCK);
+  multiplyABtInto(a, k, b, n, c, n, 0, symmetric, rowStart, rowEnd);
+  if (symmetric) mirrorLower(c, n, rowStart, rowEnd);
+  return c;
+}
+
+/**
+ * The kernel: rows [rowStart, rowEnd) of A (· × k) times the n rows of B, into C[i·ldc + cOffset + j].
+ * Every entry is accumulated in the same order (over p, in blocks of DEPTH_BLOCK) whatever the tiling or the split,
+ * so results are bit-identical however the work is divided between threads. `symmetric`: lower triangle only
+ * (j ≤ i + 3 within 4-row tiles; callers mirror). Self-contained (no outer references except DEPTH_BLOCK) so the
+ * worker pool can run its source.
+ */
+export function multiplyABtInto(
+  a: Float64Array,
+  k: number,
+  b: Float64Array,
+  n: number,
+  c: Float64Array,
+  ldc: number,
+  cOffset: number,
+  symmetric: boolean,
+  rowStart: number,
+  rowEnd: number,
+): void {
+  const DEPTH = 512;
+  for (let i = rowStart; i < rowEnd; i++) c.fill(0, i * ldc + cOffset, i * ldc + cOffset + n);
+  for (let p0 = 0; p0 < k; p0 += DEPTH) {
+    const p1 = Math.min(k, p0 + DEPTH);
     let i = rowStart;
     for (; i + 4 <= rowEnd; i += 4) {
       const a0 = i * k;
@@ -57,15 +80,15 @@ export function multiplyABt(
           c30 += y3 * x0;
           c31 += y3 * x1;
         }
-        const r = i * n + j;
+        const r = i * ldc + cOffset + j;
         c[r] += c00;
         c[r + 1] += c01;
-        c[r + n] += c10;
-        c[r + n + 1] += c11;
-        c[r + 2 * n] += c20;
-        c[r + 2 * n + 1] += c21;
-        c[r + 3 * n] += c30;
-        c[r + 3 * n + 1] += c31;
+        c[r + ldc] += c10;
+        c[r + ldc + 1] += c11;
+        c[r + 2 * ldc] += c20;
+        c[r + 2 * ldc + 1] += c21;
+        c[r + 3 * ldc] += c30;
+        c[r + 3 * ldc + 1] += c31;
       }
       for (; j < jEnd; j++) {
         const b0 = j * k;
@@ -77,11 +100,11 @@ export function multiplyABt(
           c2 += a[a2 + p] * x;
           c3 += a[a3 + p] * x;
         }
-        const r = i * n + j;
+        const r = i * ldc + cOffset + j;
         c[r] += c0;
-        c[r + n] += c1;
-        c[r + 2 * n] += c2;
-        c[r + 3 * n] += c3;
+        c[r + ldc] += c1;
+        c[r + 2 * ldc] += c2;
+        c[r + 3 * ldc] += c3;
       }
     }
     for (; i < rowEnd; i++) {
@@ -91,12 +114,10 @@ export function multiplyABt(
         const b0 = j * k;
         let s = 0;
         for (let p = p0; p < p1; p++) s += a[a0 + p] * b[b0 + p];
-        c[i * n + j] += s;
+        c[i * ldc + cOffset + j] += s;
       }
     }
   }
-  if (symmetric) mirrorLower(c, n, rowStart, rowEnd);
-  return c;
 }
 
 /** Copies the lower triangle of rows [rowStart, rowEnd) into the upper triangle (square n × n). */

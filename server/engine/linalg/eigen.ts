@@ -10,6 +10,7 @@
  */
 import { createRandom } from '../random';
 import { multiplyABt, transpose } from './dense';
+import { parallelMultiplyABt } from './parallel';
 
 export interface EigenResult {
   /** Eigenvalues in decreasing order. */
@@ -189,7 +190,7 @@ export interface SymmetricOperator {
 
 /** Operator for a dense symmetric n × n matrix. */
 export function denseOperator(s: Float64Array, n: number): SymmetricOperator {
-  return { size: n, apply: (blockT, k) => multiplyABt(blockT, k, n, s, n) };
+  return { size: n, apply: (blockT, k) => parallelMultiplyABt(blockT, k, n, s, n) };
 }
 
 export interface TopEigenOptions {

@@ -67,3 +67,20 @@ describe('eigenproblems', () => {
     expect(top.maxResidual).toBeLessThan(1e-10);
   });
 });
+
+describe('worker pool', () => {
+  it('gives bit-identical products to the single-thread kernel, however the work is split', async () => {
+    const { parallelMultiplyABt, sharedFloat64 } = await import('./parallel');
+    const n = 301;
+    const t = 257;
+    const z = sharedFloat64(n * t);
+    z.set(randomMatrix(n, t, 9));
+    const single = multiplyABt(z, n, t, z, n, undefined, true);
+    const parallel = parallelMultiplyABt(z, n, t, z, n, true);
+    expect(Array.from(parallel)).toEqual(Array.from(single));
+    const block = randomMatrix(11, n, 10);
+    const s = sharedFloat64(n * n);
+    s.set(single);
+    expect(Array.from(parallelMultiplyABt(block, 11, n, s, n))).toEqual(Array.from(multiplyABt(block, 11, n, s, n)));
+  });
+});
