@@ -29,7 +29,7 @@ async function writeFile(path: string, prefix: string): Promise<number> {
   for (const date of dates) {
     let block = '';
     for (const symbol of symbols) block += `${date},${symbol},${(0.015 * rng.normal()).toFixed(8)}\n`;
-    if (!out.write(block)) await new Promise((r) => out.once('drain', r));
+    if (!out.write(block)) await new Promise<void>((r) => out.once('drain', () => r()));
   }
   await new Promise<void>((r) => out.end(r));
   return dates.length * symbols.length;

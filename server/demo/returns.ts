@@ -127,7 +127,7 @@ export async function writeDemoFiles(dir: string): Promise<{ returnsPath: string
       block += `${dates[t]},${assets[i].symbol},${r.toFixed(8)}\n`;
       observations++;
     }
-    if (!out.write(block)) await new Promise((done) => out.once('drain', done));
+    if (!out.write(block)) await new Promise<void>((done) => out.once('drain', () => done()));
   }
   await new Promise<void>((done) => out.end(done));
 

@@ -25,7 +25,7 @@ async function bigFile(prefix: string, assets: number, days: number): Promise<st
   for (const date of dates) {
     let block = '';
     for (let a = 0; a < assets; a++) block += `${date},${prefix}${a},${(((a * 7919 + date.length) % 200) - 100) / 10000}\n`;
-    if (!out.write(block)) await new Promise((r) => out.once('drain', r));
+    if (!out.write(block)) await new Promise<void>((r) => out.once('drain', () => r()));
   }
   await new Promise<void>((r) => out.end(r));
   return path;

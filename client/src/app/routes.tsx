@@ -17,6 +17,8 @@ export const publicRoutes: RouteObject[] = [
  */
 export const shellRoutes: RouteObject[] = [
   { path: '/home', lazy: page(() => import('../features/home/HomePage')) },
+  { path: '/imports', lazy: page(() => import('../features/imports/ImportsPage')) },
+  { path: '/data-quality', lazy: page(() => import('../features/data-quality/DataQualityPage')) },
   { path: '/users', lazy: page(() => import('../features/users/UsersPage')) },
   { path: '/tokens', lazy: page(() => import('../features/tokens/TokensPage')) },
   { path: '/account/password', lazy: page(() => import('../features/account/PasswordPage')) },

@@ -1,0 +1,83 @@
+// Upload → preview → commit → data-quality grid, in Debian's headless Chromium against the real app and database.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Knex } from 'knex';
+import type { Page } from 'playwright-core';
+import { launchBrowser, signInThroughUi, startServer } from '../helpers/browser';
+import { unique } from '../helpers/app';
+import { fixtureCopy, storedFor } from '../helpers/imports';
+import { loadConfig } from '../../server/config';
+import { createKnex } from '../../server/db/knex';
+
+let server: Awaited<ReturnType<typeof startServer>>;
+let browser: Awaited<ReturnType<typeof launchBrowser>>;
+let knex: Knex;
+let page: Page;
+
+beforeAll(async () => {
+  knex = createKnex(loadConfig().databaseUrl, { max: 2 });
+  server = await startServer();
+  browser = await launchBrowser();
+  page = await browser.context.newPage();
+  await page.goto(`${server.url}/sign-in`, { timeout: 90_000 });
+  await page.getByLabel('E-mail').waitFor({ timeout: 90_000 });
+});
+afterAll(async () => {
+  await browser?.close();
+  await server?.close();
+  await knex?.destroy();
+});
+
+describe('importing return series in the browser', () => {
+  it('an analyst uploads, previews, commits and finds the assets in the data-quality grid', async () => {
+    const prefix = unique('Q').toUpperCase().slice(0, 12);
+    const file = fixtureCopy('long-simple-decimal.csv', prefix);
+    await signInThroughUi(page, server.url, 'analyst');
+    await page.getByRole('link', { name: 'Import returns' }).first().click();
+    await page.getByRole('heading', { name: 'Import return series' }).waitFor();
+
+    await page.getByLabel('CSV file').setInputFiles(file);
+    await expect(page.getByLabel('Chosen file').textContent()).resolves.toContain(`${prefix}-long-simple-decimal.csv`);
+    await page.getByLabel('Already stored dates').selectOption('skip');
+    await page.getByRole('button', { name: 'Preview' }).click();
+
+    // The preview: figures, first rows as parsed, nothing stored yet.
+    const summary = page.getByLabel('Import summary');
+    await summary.waitFor({ timeout: 60_000 });
+    await expect(summary.textContent()).resolves.toMatch(/Rows read\s*90/);
+    await expect(summary.textContent()).resolves.toMatch(/3 \(3 new\)/);
+    await expect(summary.textContent()).resolves.toMatch(/daily \(detected\)/);
+    await page.getByLabel('First rows as parsed').getByText(`${prefix}AAA`).first().waitFor();
+    await expect(page.getByLabel('Upload').getAttribute('value')).resolves.toBe('1');
+    expect(await storedFor(knex, prefix)).toEqual({ assets: 0, observations: 0, revisions: 0 });
+
+    await page.getByRole('button', { name: 'Commit import' }).click();
+    await page.getByText('Import committed').waitFor({ timeout: 60_000 });
+    expect(await storedFor(knex, prefix)).toEqual({ assets: 3, observations: 90, revisions: 0 });
+
+    await page.getByRole('link', { name: 'See data quality' }).click();
+    await page.getByRole('heading', { name: 'Data quality' }).waitFor();
+    const grid = page.getByRole('region', { name: 'Data quality by asset' });
+    await grid.getByLabel('Search the table').fill(prefix);
+    await grid.getByText(`${prefix}BBB`).first().waitFor({ timeout: 30_000 });
+    const row = grid.locator('.ag-row', { hasText: `${prefix}BBB` }).first();
+    await expect(row.textContent()).resolves.toContain('2024-01-02');
+    await expect(row.textContent()).resolves.toContain('30');
+    await page.getByRole('img', { name: /Coverage heatmap/ }).waitFor();
+  });
+
+  it('a file with errors shows the problems with row and column, and cannot be committed', async () => {
+    const prefix = unique('Q').toUpperCase().slice(0, 12);
+    await page.goto(`${server.url}/imports`);
+    await page.getByLabel('CSV file').setInputFiles(fixtureCopy('bad-dates.csv', prefix));
+    await page.getByRole('button', { name: 'Preview' }).click();
+    const problems = page.getByRole('list', { name: 'Problems' });
+    await problems.waitFor({ timeout: 60_000 });
+    await expect(problems.textContent()).resolves.toContain('row 3 · date');
+    await expect(problems.textContent()).resolves.toContain('day 30 does not exist');
+    await expect(page.getByRole('button', { name: 'Commit import' }).isDisabled()).resolves.toBe(true);
+    const download = page.waitForEvent('download');
+    await page.getByRole('button', { name: 'Download all problems (CSV)' }).click();
+    expect((await download).suggestedFilename()).toMatch(/^loadline-import-\d+-problems\.csv$/);
+    expect(await storedFor(knex, prefix)).toEqual({ assets: 0, observations: 0, revisions: 0 });
+  });
+});
