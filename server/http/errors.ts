@@ -24,7 +24,12 @@ export function zodIssues(error: ZodError): { path: string; message: string }[] 
 }
 
 /** Last middleware: every failure becomes `{ error, issues? }` with a fitting status; 5xx details stay in the log. */
-export const errorHandler: ErrorRequestHandler = (err, _req, res, _next) => {
+export const errorHandler: ErrorRequestHandler = (err, _req, res, next) => {
+  // A streamed answer (CSV export) that fails half-way: the status is gone, so Express cuts the connection.
+  if (res.headersSent) {
+    console.error(err);
+    return next(err);
+  }
   if (err instanceof HttpError) {
     res.status(err.status).json({ error: err.message, ...(err.issues ? { issues: err.issues } : {}) });
     return;
