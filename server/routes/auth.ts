@@ -16,7 +16,7 @@ import {
   SetPasswordBodySchema,
   SetPasswordResponseSchema,
 } from '../../shared/schemas/users';
-import { changeOwnPassword, inspectPasswordLink, requestPasswordReset, setPasswordWithLink } from '../services/usersService';
+import { changeOwnPassword, inspectPasswordLink, schedulePasswordReset, setPasswordWithLink } from '../services/usersService';
 
 export function authRoutes(config: Config) {
   const api = apiRouter('/auth', 'Sign-in');
@@ -86,11 +86,7 @@ export function authRoutes(config: Config) {
     status: 202,
     before: passwordResetLimiters(config),
     handler: ({ body, req }) => {
-      // Done after answering, so the answer's timing does not tell whether the address exists either.
-      const ip = requestIp(req);
-      setImmediate(() => {
-        requestPasswordReset(config, body.email, ip).catch((error: unknown) => console.error('[api] password reset mail failed:', (error as Error).message));
-      });
+      schedulePasswordReset(config, body.email, requestIp(req));
       return { ok: true as const };
     },
   });

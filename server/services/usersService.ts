@@ -188,6 +188,13 @@ export async function requestPasswordReset(config: Config, email: string, ip: st
   });
 }
 
+/** Handles a reset request after the answer is sent, so not even its timing tells whether the address exists. */
+export function schedulePasswordReset(config: Config, email: string, ip: string | null): void {
+  setImmediate(() => {
+    requestPasswordReset(config, email, ip).catch((error: unknown) => console.error('[api] password reset failed:', (error as Error).message));
+  });
+}
+
 /** A signed-in user changes their own password; all their other sessions end (API tokens stay: revoke those separately). */
 export async function changeOwnPassword(actor: AuthenticatedUser, currentPassword: string, newPassword: string, ip: string | null): Promise<User> {
   const user = await User.query().findById(actor.id);
