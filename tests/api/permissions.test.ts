@@ -48,6 +48,32 @@ const TABLE: [string, Allowed][] = [
   ['POST /api/model-runs/:id/cancel', ['analyst', 'admin']],
   ['POST /api/model-runs/:id/approve', ['analyst', 'admin']],
   ['POST /api/model-runs/:id/retire', ['analyst', 'admin']],
+  // Return-series imports (analyst and admin import; everyone signed in reads)
+  ['POST /api/imports', ['analyst', 'admin']],
+  ['POST /api/imports/:id/commit', ['analyst', 'admin']],
+  ['GET /api/imports/progress/:ref', ['analyst', 'admin']],
+  ['GET /api/imports', 'signed-in'],
+  ['GET /api/imports/:id', 'signed-in'],
+  ['GET /api/imports/:id/problems.csv', 'signed-in'],
+  // Assets and their metadata
+  ['GET /api/assets', 'signed-in'],
+  ['POST /api/assets/metadata', ['analyst', 'admin']],
+  ['GET /api/assets/by-symbol/:symbol/returns', 'signed-in'],
+  ['GET /api/assets/:id', 'signed-in'],
+  ['PATCH /api/assets/:id', ['analyst', 'admin']],
+  // Data quality of the stored series
+  ['GET /api/data-quality/assets', 'signed-in'],
+  ['GET /api/data-quality/coverage', 'signed-in'],
+  // Portfolios (PMs and admins edit; every role reads, row-level rules in the service)
+  ['GET /api/portfolios', ['admin', 'analyst', 'pm', 'compliance']],
+  ['POST /api/portfolios', ['admin', 'pm']],
+  ['GET /api/portfolios/:id', ['admin', 'analyst', 'pm', 'compliance']],
+  ['PATCH /api/portfolios/:id', ['admin', 'pm']],
+  ['DELETE /api/portfolios/:id', ['admin', 'pm']],
+  ['PUT /api/portfolios/:id/holdings', ['admin', 'pm']],
+  ['POST /api/portfolios/:id/holdings/csv', ['admin', 'pm']],
+  ['GET /api/portfolios/:id/risk', ['admin', 'analyst', 'pm', 'compliance']],
+  ['POST /api/portfolios/:id/risk/what-if', ['admin', 'analyst', 'pm', 'compliance']],
   // API description
   ['GET /api/openapi.json', 'public'],
 ];
