@@ -34,6 +34,8 @@ export interface FitOptions {
   spectrumSize?: number;
   /** FA/EM relative log-likelihood tolerance per SQUAREM cycle (default 1e-12). */
   tolerance?: number;
+  /** FA/EM: largest relative change of any Ψᵢ in an EM step at convergence (default 1e-7). */
+  parameterTolerance?: number;
   maxEvaluations?: number;
   /** FA: Ψᵢ ≥ floorShare · Sᵢᵢ (default 0.005). */
   floorShare?: number;
@@ -58,7 +60,8 @@ export interface FitDiagnostics {
   trace: number[];
   /** Per asset: specific variance held at its floor (Heywood case). */
   heywood: boolean[];
-  /** Top eigenvalues of the sample (1/T) covariance used, decreasing. */
+  /** Top eigenvalues, decreasing: of the 1/T scatter for complete-data factor models, of the estimated covariance for
+   * sample and Ledoit–Wolf; empty for missing-data EM fits. */
   spectrum: number[];
   effectiveSampleSize: number;
   weighting: WeightingSummary;
@@ -158,7 +161,7 @@ export function fitModel(input: ReturnsPanel, options: FitOptions, control: FitC
   };
 
   if (isFactor && policy === 'em') {
-    const r = fitWithMissing(panel, { method, factors, weighting: options.weighting, mean: meanHandling, tolerance: options.tolerance, maxEvaluations: options.maxEvaluations, floorShare: options.floorShare }, control);
+    const r = fitWithMissing(panel, { method, factors, weighting: options.weighting, mean: meanHandling, tolerance: options.tolerance, parameterTolerance: options.parameterTolerance, maxEvaluations: options.maxEvaluations, floorShare: options.floorShare }, control);
     const model: CovarianceModel = { kind: 'factor', method, assets: n, factors, mean: r.mean, loadings: r.loadings, specificVariance: r.specificVariance };
     const heyCount = r.heywood.filter(Boolean).length;
     if (heyCount > 0 && method === 'fa') flags.push(`heywood-cases:${heyCount}`);
@@ -195,7 +198,7 @@ export function fitModel(input: ReturnsPanel, options: FitOptions, control: FitC
       };
     }
     const start = options.start ?? { loadings: ppca.loadings, specificVariance: new Float64Array(n).fill(ppca.noiseVariance) };
-    const fa = fitFactorAnalysis(scatter, factors, { tolerance: options.tolerance, maxEvaluations: options.maxEvaluations, floorShare: options.floorShare, start }, control);
+    const fa = fitFactorAnalysis(scatter, factors, { tolerance: options.tolerance, parameterTolerance: options.parameterTolerance, maxEvaluations: options.maxEvaluations, floorShare: options.floorShare, start }, control);
     const model: CovarianceModel = { kind: 'factor', method, assets: n, factors, mean: scatter.mean, loadings: fa.loadings, specificVariance: fa.specificVariance };
     const heyCount = fa.heywood.filter(Boolean).length;
     if (heyCount > 0) flags.push(`heywood-cases:${heyCount}`);

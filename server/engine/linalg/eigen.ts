@@ -317,7 +317,7 @@ export function topEigenpairs(op: SymmetricOperator, k: number, options: TopEige
       filled += add;
     }
     // Rayleigh–Ritz: H = Q A Qᵀ (m × m)
-    const h = multiplyABt(q, m, n, aq, m);
+    const h = parallelMultiplyABt(q, m, n, aq, m);
     for (let i = 0; i < m; i++) {
       for (let j = 0; j < i; j++) {
         const s = 0.5 * (h[i * m + j] + h[j * m + i]);
