@@ -20,6 +20,8 @@ import { computeModelRun } from '../server/worker/fitCompute';
 import { insertRun } from '../server/services/modelRunService';
 import { insertModelResult, panelSha256 } from '../server/services/modelStore';
 import { ModelRunParametersSchema } from '../shared/schemas/modelRuns';
+import { DEMO_USERS } from '../server/demo/users';
+import { upsertUser } from '../server/services/authService';
 
 const N = 1000;
 const T = 750;
@@ -70,6 +72,14 @@ async function ensureUniverse(knex: Knex): Promise<{ symbols: string[]; dates: s
 }
 
 async function storeRun(knex: Knex, symbols: string[], dates: string[], estimator: 'fa' | 'ppca'): Promise<number> {
+  // Fitted once per bench database: later runs reuse it (the fit's own speed is the model-run benchmark's business).
+  const existing = await knex('model_runs as r')
+    .join('model_results as m', 'm.run_id', 'r.id')
+    .where({ 'r.estimator': estimator, 'r.status': 'succeeded', 'm.assets': N, 'm.observations': T })
+    .whereRaw(`r.parameters->>'label' = 'portfolio-risk bench'`)
+    .orderBy('r.id', 'desc')
+    .first('r.id');
+  if (existing) return existing.id as number;
   const parameters = ModelRunParametersSchema.parse({
     label: 'portfolio-risk bench',
     universe: { kind: 'assets', symbols },
@@ -142,7 +152,7 @@ async function load(url: string, token: string, method: 'GET' | 'POST', body?: s
     duration: DURATION_S,
     headers: { authorization: `Bearer ${token}`, ...(body ? { 'content-type': 'application/json' } : {}) },
     body,
-  });
+  }) as unknown as autocannon.Instance & PromiseLike<autocannon.Result>;
   instance.on('response', (_client: unknown, statusCode: number, _bytes: number, responseTime: number) => {
     if (statusCode !== 200) errors++;
     times.push(responseTime);
@@ -157,6 +167,10 @@ export default async function run(): Promise<void> {
   const config = loadConfig();
   const knex = createKnex(config.databaseUrl, { max: 4 });
   bindModels(knex);
+  // The demo sign-ins the bench uses (the bench database may predate them).
+  for (const user of DEMO_USERS.filter((u) => ['pm@quillfield.example', 'analyst@quillfield.example', 'analyst2@quillfield.example'].includes(u.email))) {
+    if (!(await knex('users').where({ email: user.email }).first())) await upsertUser(user);
+  }
   let server: { child: ChildProcess; port: number } | null = null;
   try {
     let started = performance.now();

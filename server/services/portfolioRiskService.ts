@@ -204,10 +204,40 @@ function positionsIn(context: ModelContext, holdings: readonly HeldWeights[]): P
   return out;
 }
 
-/** Per-period volatility of the covered part of a portfolio under one model: O(k·L) or O(k²). */
-function volatilityUnder(model: CovarianceModel, positions: Positions): number {
+/** Per-period volatility of the covered part of a portfolio under a factor model: O(k·L). */
+function factorVolatility(model: FactorModel, positions: Positions): number {
   if (!positions.index.length) return 0;
   return varianceBreakdown(restrict(model, positions.index), positions.weights).volatility;
+}
+
+/**
+ * Per-period volatilities under several dense models on the same assets (sample and Ledoit–Wolf): the quadratic
+ * forms wᵀCw = Σ_a w_a (C_aa w_a + 2 Σ_{b<a} C_ab w_b) read in place over the held assets, one pass for all matrices,
+ * O(k²/2) each, never copying a k × k block.
+ */
+function denseVolatilities(models: readonly DenseCovarianceModel[], positions: Positions): number[] {
+  const k = positions.index.length;
+  const n = models[0].assets;
+  const index = Int32Array.from(positions.index);
+  const w = Float64Array.from(positions.weights);
+  const c0 = models[0].covariance;
+  const c1 = models.length > 1 ? models[1].covariance : models[0].covariance;
+  let v0 = 0;
+  let v1 = 0;
+  for (let a = 0; a < k; a++) {
+    const row = index[a] * n;
+    let s0 = 0;
+    let s1 = 0;
+    for (let b = 0; b < a; b++) {
+      const at = row + index[b];
+      s0 += c0[at] * w[b];
+      s1 += c1[at] * w[b];
+    }
+    const wa = w[a];
+    v0 += wa * (c0[row + index[a]] * wa + 2 * s0);
+    v1 += wa * (c1[row + index[a]] * wa + 2 * s1);
+  }
+  return [Math.sqrt(Math.max(v0, 0)), Math.sqrt(Math.max(v1, 0))].slice(0, models.length);
 }
 
 // ---------------------------------------------------------------------------------------------------------------
@@ -263,9 +293,10 @@ async function computeRisk(
   benchmark: { id: number; name: string; holdings: HeldWeights[] } | null,
   request: RiskRequest,
   whatIf: boolean,
+  resolvedRuns?: Awaited<ReturnType<typeof runsFor>>,
 ): Promise<PortfolioRisk> {
   const started = performance.now();
-  const { primary, latestByEstimator } = await runsFor(request.model);
+  const { primary, latestByEstimator } = resolvedRuns ?? (await runsFor(request.model));
   const context = await modelContext(primary.id);
   const { stored } = context;
   const header = stored.header;
@@ -300,7 +331,7 @@ async function computeRisk(
 
   // Side by side: FA and PPCA (this model when of that kind, else the latest approved one), sample and LW on this window.
   const comparisons = await comparisonsFor(context);
-  const sampleVol = volatilityUnder(comparisons.sample, positions);
+  const [sampleVol, lwVol] = denseVolatilities([comparisons.sample, comparisons.ledoitWolf], positions);
   const coveredWeight = positions.weights.reduce((s, x) => s + x, 0);
   const volatilities: VolatilityRow[] = [];
   for (const estimator of ['fa', 'ppca'] as const) {
@@ -315,7 +346,8 @@ async function computeRisk(
     }
     const otherContext = await modelContext(other.id);
     const otherPositions = positionsIn(otherContext, holdings);
-    const vol = volatilityUnder(otherContext.stored.model, otherPositions);
+    const otherModel = otherContext.stored.model;
+    const vol = otherModel.kind === 'factor' ? factorVolatility(otherModel, otherPositions) : (otherPositions.index.length ? denseVolatilities([otherModel], otherPositions)[0] : 0);
     const h = otherContext.stored.header;
     const sameWindow = h.firstDate === header.firstDate && h.lastDate === header.lastDate && h.assets === header.assets && h.observations === header.observations;
     const covered = otherPositions.weights.reduce((s, x) => s + x, 0);
@@ -345,7 +377,6 @@ async function computeRisk(
     coveredWeight,
     note: (pairwiseNote + dataNote).trim() || null,
   });
-  const lwVol = volatilityUnder(comparisons.ledoitWolf, positions);
   volatilities.push({
     estimator: 'ledoit-wolf',
     source: `computed on ${header.label}'s window (shrinkage δ = ${comparisons.shrinkage.toFixed(4)})`,
@@ -483,13 +514,29 @@ async function computeRisk(
   return answer;
 }
 
+/**
+ * Holdings of a portfolio, cached per process by (id, version = updated_at in µs): every change of holdings goes
+ * through replaceHoldings, which moves updated_at, so a cached entry is never stale.
+ */
+const holdingsCache = new Map<string, HeldWeights[]>();
+async function cachedHoldings(portfolioId: number, version: number): Promise<HeldWeights[]> {
+  const key = `${portfolioId}:${version}`;
+  const hit = holdingsCache.get(key);
+  if (hit) return hit;
+  const rows = (await holdingsOf(portfolioId)).map((h) => ({ assetId: h.asset_id, symbol: h.symbol, name: h.asset_name, weight: h.weight }));
+  for (const k of holdingsCache.keys()) if (k.startsWith(`${portfolioId}:`)) holdingsCache.delete(k);
+  holdingsCache.set(key, rows);
+  while (holdingsCache.size > 200) holdingsCache.delete(holdingsCache.keys().next().value!);
+  return rows;
+}
+
 async function benchmarkOf(user: Actor, benchmarkId: number | null): Promise<{ id: number; name: string; holdings: HeldWeights[] } | null> {
   if (!benchmarkId) return null;
   try {
     const row = await readablePortfolio(user, benchmarkId);
-    const holdings = await holdingsOf(benchmarkId);
+    const holdings = await cachedHoldings(row.id, row.version);
     if (!holdings.length) return null;
-    return { id: row.id, name: row.name, holdings: holdings.map((h) => ({ assetId: h.asset_id, symbol: h.symbol, name: h.asset_name, weight: h.weight })) };
+    return { id: row.id, name: row.name, holdings };
   } catch {
     return null; // a benchmark the caller cannot read gives no tracking error
   }
@@ -497,16 +544,16 @@ async function benchmarkOf(user: Actor, benchmarkId: number | null): Promise<{ i
 
 /** Risk of a saved portfolio. */
 export async function portfolioRiskReport(user: Actor, portfolioId: number, request: RiskRequest): Promise<PortfolioRisk> {
-  const row = await readablePortfolio(user, portfolioId);
-  const [holdings, benchmark] = await Promise.all([holdingsOf(portfolioId), benchmarkOf(user, row.benchmark_portfolio_id)]);
+  // The portfolio and the model runs in parallel: two short queries.
+  // A portfolio the caller may not read answers 404 before anything is said about models.
+  const [rowResult, runsResult] = await Promise.allSettled([readablePortfolio(user, portfolioId), runsFor(request.model)]);
+  if (rowResult.status === 'rejected') throw rowResult.reason;
+  if (runsResult.status === 'rejected') throw runsResult.reason;
+  const row = rowResult.value;
+  const runs = runsResult.value;
+  const [holdings, benchmark] = await Promise.all([cachedHoldings(row.id, row.version), benchmarkOf(user, row.benchmark_portfolio_id)]);
   if (!holdings.length) throw unprocessable(`Portfolio '${row.name}' has no holdings yet`, [{ path: 'holdings', message: 'add holdings before asking for risk' }]);
-  return computeRisk(
-    { id: row.id, name: row.name },
-    holdings.map((h) => ({ assetId: h.asset_id, symbol: h.symbol, name: h.asset_name, weight: h.weight })),
-    benchmark,
-    request,
-    false,
-  );
+  return computeRisk({ id: row.id, name: row.name }, holdings, benchmark, request, false, runs);
 }
 
 /** Risk of edited weights for a saved portfolio (nothing is stored). Weights are used as given. */
@@ -514,7 +561,8 @@ export async function whatIfRisk(user: Actor, portfolioId: number, weights: { sy
   const row = await readablePortfolio(user, portfolioId);
   const benchmark = await benchmarkOf(user, row.benchmark_portfolio_id);
   // Symbols: unknown ones and duplicates name their row; the asset table is asked only for symbols outside the model.
-  const { primary } = await runsFor(request.model);
+  const runs = await runsFor(request.model);
+  const { primary } = runs;
   const context = await modelContext(primary.id);
   const issues: { path: string; message: string }[] = [];
   const seen = new Map<string, number>();
@@ -536,9 +584,9 @@ export async function whatIfRisk(user: Actor, portfolioId: number, weights: { sy
   });
   if (issues.length) throw unprocessable(`The what-if weights are not valid (${issues.length} problem${issues.length === 1 ? '' : 's'})`, issues);
   // Asset names for the contributors grid come from the saved holdings where known.
-  const names = new Map((await holdingsOf(portfolioId)).map((h) => [h.symbol.toUpperCase(), h.asset_name]));
+  const names = new Map((await cachedHoldings(row.id, row.version)).map((h) => [h.symbol.toUpperCase(), h.name]));
   for (const h of held) if (h.name === null) h.name = names.get(h.symbol) ?? null;
-  return computeRisk({ id: row.id, name: row.name }, held, benchmark, { ...request, model: primary.id }, true);
+  return computeRisk({ id: row.id, name: row.name }, held, benchmark, { ...request, model: primary.id }, true, runs);
 }
 
 export type { FactorModel };

@@ -40,6 +40,7 @@ interface PortfolioRow {
   benchmark_name: string | null;
   input_mode: 'weights' | 'market-values';
   holdings_count: number;
+  version: number;
   created_at: Date;
   updated_at: Date;
 }
@@ -67,6 +68,8 @@ function summaryQuery(k: Knex) {
       'p.created_at',
       'p.updated_at',
       k.raw('(SELECT count(*)::int FROM portfolio_holdings h WHERE h.portfolio_id = p.id) AS holdings_count'),
+      // Microseconds since the epoch of the last change: keys per-process caches of holdings.
+      k.raw('(extract(epoch FROM p.updated_at) * 1000000)::bigint AS version'),
     );
 }
 

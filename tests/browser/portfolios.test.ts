@@ -78,7 +78,7 @@ describe('portfolio risk page', () => {
           if (!(await editor.isVisible())) await cell.click();
           return editor.isVisible();
         },
-        { timeout: 15_000, intervals: [300, 600, 1000] },
+        { timeout: 15_000, interval: 500 },
       )
       .toBe(true);
     await editor.fill('40');
