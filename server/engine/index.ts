@@ -24,6 +24,8 @@ export { fitModel, type FitOptions, type FitResult, type FitDiagnostics, type Fi
 export { symmetricEigen, topEigenpairs, denseOperator, type SymmetricOperator, type EigenResult } from './linalg/eigen';
 export { cholesky, choleskySolve, choleskyLogDet, spdInverse, tryCholesky } from './linalg/cholesky';
 export { multiplyABt, multiply, multiplyAtB, rowGram, transpose, lowRankPlusDiagonal, relativeFrobenius } from './linalg/dense';
+export { parallelMultiplyABt, sharedFloat64 } from './linalg/parallel';
+export { squarem, type EmStep, type SquaremOptions, type SquaremResult } from './squarem';
 // Risk, rotation, scores, sampling and forecast evaluation on fitted models.
 export {
   portfolioRisk,
