@@ -1,4 +1,4 @@
-import { Navigate, NavLink, Outlet, useLocation, useNavigate } from 'react-router-dom';
+import { Navigate, NavLink, Outlet, useLocation, useNavigate, useNavigation } from 'react-router-dom';
 import { ROLE_LABELS } from '@shared/schemas/common';
 import type { PublicUser } from '@shared/schemas/auth';
 import { useSession, useSignOut } from '../features/auth/api';
@@ -34,6 +34,10 @@ export function Shell() {
 
   return (
     <CurrentUserContext.Provider value={user}>
+      <a href="#main" className="sr-only focus:not-sr-only focus:absolute focus:top-2 focus:left-2 focus:z-50 focus:rounded focus:bg-surface focus:px-3 focus:py-1.5 focus:shadow">
+        Skip to the page
+      </a>
+      <NavigationProgress />
       <div className="flex min-h-screen">
         <Rail user={user} />
         <div className="flex min-w-0 flex-1 flex-col">
@@ -107,6 +111,13 @@ function TopBar({ user }: { user: PublicUser }) {
       </Button>
     </header>
   );
+}
+
+/** A thin bar across the top while the next page's code loads. */
+function NavigationProgress() {
+  const navigation = useNavigation();
+  if (navigation.state === 'idle') return null;
+  return <div role="progressbar" aria-label="Loading the page" className="fixed inset-x-0 top-0 z-50 h-0.5 animate-pulse bg-accent" />;
 }
 
 /** Where you are: the rail section and page of the current address. */

@@ -1,7 +1,11 @@
-import type { ReactNode } from 'react';
+import { useEffect, type ReactNode } from 'react';
 
 /** The top of every page: a title, one line saying what the page is for, and the page's own actions on the right. */
 export function PageHeader({ title, description, actions }: { title: string; description?: ReactNode; actions?: ReactNode }) {
+  // The tab and the browser history name the page.
+  useEffect(() => {
+    document.title = `${title} · Loadline`;
+  }, [title]);
   return (
     <header className="mb-5 flex flex-wrap items-end justify-between gap-3 border-b border-line pb-4">
       <div className="min-w-0">
