@@ -114,43 +114,44 @@ export function confidenceQuantile(confidence: number): number {
  * Factor model: w'Σw = ‖Wᵀw‖² + Σᵢ Ψᵢwᵢ²; Σw = W(Wᵀw) + Ψ∘w.
  */
 export function varianceBreakdown(model: CovarianceModel, weights: ArrayLike<number>, periodsPerYear: number = PERIODS_PER_YEAR.daily): VarianceBreakdown {
-  return breakdownWithExposures(model, weights, periodsPerYear).breakdown;
+  return breakdownFromProducts(model, weights, products(model, weights), periodsPerYear);
 }
 
-/** The breakdown plus y = Wᵀw (factor models), computing Wᵀw once: two O(N·L) passes per portfolio in all. */
-function breakdownWithExposures(
-  model: CovarianceModel,
-  weights: ArrayLike<number>,
-  periodsPerYear: number,
-): { breakdown: VarianceBreakdown; exposures: Float64Array | null } {
+/** Σw and, for factor models, y = Wᵀw: the two O(N·L) passes everything else is built from. */
+interface Products {
+  sigmaW: Float64Array;
+  exposures: Float64Array | null;
+}
+
+function products(model: CovarianceModel, weights: ArrayLike<number>): Products {
+  if (model.kind === 'dense') return { sigmaW: covarianceTimes(model, weights), exposures: null };
   const n = model.assets;
-  let sigmaW: Float64Array;
+  const { factors: l, loadings, specificVariance: psi } = model;
+  const y = loadingsTransposeTimes(model, weights);
+  const sigmaW = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    let s = psi[i] * weights[i];
+    const row = i * l;
+    for (let k = 0; k < l; k++) s += loadings[row + k] * y[k];
+    sigmaW[i] = s;
+  }
+  return { sigmaW, exposures: y };
+}
+
+function breakdownFromProducts(model: CovarianceModel, weights: ArrayLike<number>, { sigmaW, exposures }: Products, periodsPerYear: number): VarianceBreakdown {
+  const n = model.assets;
   let variance = 0;
   let factorVariance: number | null = null;
   let specificVariance: number | null = null;
-  let exposures: Float64Array | null = null;
-  if (model.kind === 'factor') {
-    const { factors: l, loadings, specificVariance: psi } = model;
-    const y = loadingsTransposeTimes(model, weights);
-    exposures = y;
-    sigmaW = new Float64Array(n);
+  if (model.kind === 'factor' && exposures) {
     let fv = 0;
-    for (let k = 0; k < l; k++) fv += y[k] * y[k];
+    for (let k = 0; k < exposures.length; k++) fv += exposures[k] * exposures[k];
     let sv = 0;
-    for (let i = 0; i < n; i++) {
-      const wi = weights[i];
-      const psiW = psi[i] * wi;
-      sv += psiW * wi;
-      let s = psiW;
-      const row = i * l;
-      for (let k = 0; k < l; k++) s += loadings[row + k] * y[k];
-      sigmaW[i] = s;
-    }
+    for (let i = 0; i < n; i++) sv += model.specificVariance[i] * weights[i] * weights[i];
     factorVariance = fv;
     specificVariance = sv;
     variance = fv + sv; // w'Σw summed from its two non-negative parts
   } else {
-    sigmaW = covarianceTimes(model, weights);
     for (let i = 0; i < n; i++) variance += weights[i] * sigmaW[i];
     variance = Math.max(variance, 0);
   }
@@ -166,17 +167,14 @@ function breakdownWithExposures(
     }
   }
   return {
-    breakdown: {
-      variance,
-      volatility,
-      annualisedVolatility: volatility * Math.sqrt(periodsPerYear),
-      factorVariance,
-      specificVariance,
-      marginalContributions,
-      contributions,
-      percentContributions,
-    },
-    exposures,
+    variance,
+    volatility,
+    annualisedVolatility: volatility * Math.sqrt(periodsPerYear),
+    factorVariance,
+    specificVariance,
+    marginalContributions,
+    contributions,
+    percentContributions,
   };
 }
 
@@ -202,17 +200,29 @@ export function parametricTailRisk(volatility: number, meanReturn: number, horiz
 export function portfolioRisk(model: CovarianceModel, weights: ArrayLike<number>, options: RiskOptions = {}): PortfolioRisk {
   assertWeights(model, weights);
   if (options.benchmark) assertWeights(model, options.benchmark, 'benchmark weights');
-  return riskUnchecked(model, weights, checkOptions(options), options.benchmark);
+  return riskUnchecked(model, weights, checkOptions(options), prepareBenchmark(model, options.benchmark));
+}
+
+/** A benchmark with its products Σb and Wᵀb, computed once for a whole batch. */
+interface PreparedBenchmark {
+  weights: ArrayLike<number>;
+  products: Products;
+}
+
+function prepareBenchmark(model: CovarianceModel, benchmark: ArrayLike<number> | undefined): PreparedBenchmark | undefined {
+  return benchmark ? { weights: benchmark, products: products(model, benchmark) } : undefined;
 }
 
 function riskUnchecked(
   model: CovarianceModel,
   weights: ArrayLike<number>,
   opts: Required<Omit<RiskOptions, 'benchmark'>>,
-  benchmark: ArrayLike<number> | undefined,
+  benchmark: PreparedBenchmark | undefined,
 ): PortfolioRisk {
   const n = model.assets;
-  const { breakdown, exposures } = breakdownWithExposures(model, weights, opts.periodsPerYear);
+  const own = products(model, weights);
+  const breakdown = breakdownFromProducts(model, weights, own, opts.periodsPerYear);
+  const exposures = own.exposures;
   let meanReturn = 0;
   for (let i = 0; i < n; i++) meanReturn += weights[i] * model.mean[i];
   const drift = opts.includeMean ? meanReturn : 0;
@@ -220,9 +230,20 @@ function riskUnchecked(
 
   let active: PortfolioRisk['active'] = null;
   if (benchmark) {
+    // Linearity: Σ(w − b) = Σw − Σb and Wᵀ(w − b) = Wᵀw − Wᵀb, so active risk costs O(N) more per portfolio.
     const activeWeights = new Float64Array(n);
-    for (let i = 0; i < n; i++) activeWeights[i] = weights[i] - benchmark[i];
-    active = { ...varianceBreakdown(model, activeWeights, opts.periodsPerYear), activeWeights };
+    const sigmaA = new Float64Array(n);
+    const b = benchmark.products;
+    for (let i = 0; i < n; i++) {
+      activeWeights[i] = weights[i] - benchmark.weights[i];
+      sigmaA[i] = own.sigmaW[i] - b.sigmaW[i];
+    }
+    let exposuresA: Float64Array | null = null;
+    if (own.exposures && b.exposures) {
+      exposuresA = new Float64Array(own.exposures.length);
+      for (let k = 0; k < exposuresA.length; k++) exposuresA[k] = own.exposures[k] - b.exposures[k];
+    }
+    active = { ...breakdownFromProducts(model, activeWeights, { sigmaW: sigmaA, exposures: exposuresA }, opts.periodsPerYear), activeWeights };
   }
 
   let exposure: ExposureSummary | null = null;
@@ -245,9 +266,10 @@ function riskUnchecked(
 export function portfolioRiskBatch(model: CovarianceModel, portfolios: readonly ArrayLike<number>[], options: RiskOptions = {}): PortfolioRisk[] {
   const opts = checkOptions(options);
   if (options.benchmark) assertWeights(model, options.benchmark, 'benchmark weights');
+  const benchmark = prepareBenchmark(model, options.benchmark);
   return portfolios.map((w, p) => {
     assertWeights(model, w, `portfolio ${p} weights`);
-    return riskUnchecked(model, w, opts, options.benchmark);
+    return riskUnchecked(model, w, opts, benchmark);
   });
 }
 
