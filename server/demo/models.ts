@@ -1,6 +1,7 @@
 /**
  * The demo's approved models: after the demo returns exist, fit a factor-analysis model (and a probabilistic PCA
- * one) on the last 500 business days of every demo asset, store them through the model services as runs by the
+ * one) on the dates of the last 500 business days on which every demo asset is observed (the demo has late listings
+ * and gaps; this keeps the seed fast), store them through the model services as runs by the
  * first demo analyst, and approve them as the second demo analyst, so portfolio pages have approved models from
  * the start. The engine runs directly here (no queue), deterministically.
  */
@@ -16,8 +17,8 @@ import { ModelRunParametersSchema, type ModelRunParametersInput } from '../../sh
 
 /** 10 invented sectors plus a market factor were planted in the demo returns. */
 export const DEMO_MODEL_RUNS: ModelRunParametersInput[] = [
-  { label: 'demo', universe: { kind: 'all' }, window: { kind: 'last', observations: 500 }, estimator: 'fa', factors: 11, weighting: { kind: 'equal' }, mean: 'sample', missing: 'em' },
-  { label: 'demo', universe: { kind: 'all' }, window: { kind: 'last', observations: 500 }, estimator: 'ppca', factors: 11, weighting: { kind: 'equal' }, mean: 'sample', missing: 'em' },
+  { label: 'demo', universe: { kind: 'all' }, window: { kind: 'last', observations: 500 }, estimator: 'fa', factors: 11, weighting: { kind: 'equal' }, mean: 'sample', missing: 'complete-rows' },
+  { label: 'demo', universe: { kind: 'all' }, window: { kind: 'last', observations: 500 }, estimator: 'ppca', factors: 11, weighting: { kind: 'equal' }, mean: 'sample', missing: 'complete-rows' },
 ];
 
 export async function seedDemoModels(knex: Knex, log: (message: string) => void = console.log): Promise<void> {
