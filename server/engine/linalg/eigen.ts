@@ -257,8 +257,8 @@ export function topEigenpairs(op: SymmetricOperator, k: number, options: TopEige
   const rng = createRandom(options.seed ?? 20240611);
   const refill = () => rng.normal();
 
-  // Small problems: dense projection is exact and cheap.
-  if (n <= Math.max(b * blocks, 64)) {
+  // Small problems: a dense tridiagonal eigensolve is exact and cheaper than a Krylov basis nearly as large.
+  if (n <= Math.max(b * blocks, 200)) {
     const eye = new Float64Array(n * n);
     for (let i = 0; i < n; i++) eye[i * n + i] = 1;
     const a = op.apply(eye, n); // rows = images of unit vectors = A (symmetric)
@@ -287,6 +287,8 @@ export function topEigenpairs(op: SymmetricOperator, k: number, options: TopEige
   let values = new Float64Array(k);
   let vectorsT = new Float64Array(k * n);
   let maxResidual = Infinity;
+  let bestResidual = Infinity;
+  let stalled = 0;
   let kept = 0; // rows of q carried over from the last restart (Ritz vectors), with images in aq
   for (;;) {
     // Build the Krylov basis block by block.
@@ -348,10 +350,17 @@ export function topEigenpairs(op: SymmetricOperator, k: number, options: TopEige
     values = small.values.slice(0, k);
     vectorsT = ritz.slice(0, k * n);
     if (maxResidual <= tol || restarts >= maxRestarts) break;
+    // Rounding sets a floor on the attainable residual: stop when three restarts have not halved it.
+    if (maxResidual < 0.5 * bestResidual) {
+      bestResidual = maxResidual;
+      stalled = 0;
+    } else if (++stalled >= 3) break;
     restarts++;
-    // Thick restart: keep the Ritz vectors, continue the Krylov sequence from their residual directions.
+    // Thick restart: keep the Ritz vectors (images recomputed, so rounding does not accumulate), continue the
+    // Krylov sequence from their residual directions.
     q.set(ritz, 0);
-    aq.set(ritzImg, 0);
+    aq.set(op.apply(ritz, keep), 0);
+    applications += keep;
     kept = keep;
     if (kept >= m) break;
   }

@@ -65,12 +65,28 @@ export function sharedFloat64(length: number): Float64Array {
 
 const isShared = (x: Float64Array) => typeof SharedArrayBuffer !== 'undefined' && x.buffer instanceof SharedArrayBuffer;
 
-function toShared(x: Float64Array): Float64Array {
+// Grow-only scratch areas on shared memory for copied inputs and small outputs, so repeated thin products
+// (S·B inside iterative fits) do not churn SharedArrayBuffers, which the garbage collector frees lazily.
+const scratch: { a: Float64Array | null; b: Float64Array | null; c: Float64Array | null } = { a: null, b: null, c: null };
+
+function scratchArea(which: 'a' | 'b' | 'c', length: number): Float64Array {
+  let area = scratch[which];
+  if (!area || area.length < length) {
+    area = new Float64Array(new SharedArrayBuffer(8 * Math.max(length, 1 << 16)));
+    scratch[which] = area;
+  }
+  return area.subarray(0, length);
+}
+
+function toShared(x: Float64Array, which: 'a' | 'b'): Float64Array {
   if (isShared(x)) return x;
-  const y = new Float64Array(new SharedArrayBuffer(8 * x.length));
+  const y = scratchArea(which, x.length);
   y.set(x);
   return y;
 }
+
+/** Outputs at least this large get their own shared buffer (they are usually kept, e.g. S or a Gram matrix). */
+const OWN_OUTPUT = 1 << 20;
 
 interface Part {
   rowStart: number;
@@ -94,9 +110,10 @@ export function parallelMultiplyABt(a: Float64Array, m: number, k: number, b: Fl
     return c;
   }
   const threads = p.workers.length + 1;
-  const sa = toShared(a);
-  const sb = symmetric ? sa : toShared(b);
-  const c = new Float64Array(new SharedArrayBuffer(8 * m * n));
+  const sa = toShared(a, 'a');
+  const sb = symmetric ? sa : toShared(b, 'b');
+  const own = m * n >= OWN_OUTPUT;
+  const c = own ? new Float64Array(new SharedArrayBuffer(8 * m * n)) : scratchArea('c', m * n);
   const parts: Part[] = [];
   if (symmetric) {
     // balance the triangle: row i costs ~i, so cut at m·sqrt(t/threads)
@@ -145,5 +162,5 @@ export function parallelMultiplyABt(a: Float64Array, m: number, k: number, b: Fl
     while (Atomics.load(control, w) === 0) Atomics.wait(control, w, 0, 1000);
   }
   if (symmetric) mirrorLower(c, n);
-  return c;
+  return own ? c : c.slice();
 }
