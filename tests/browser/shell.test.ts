@@ -114,6 +114,15 @@ describe('signing in and out', () => {
     await page.close();
   });
 
+  it('a page opened by address that the role cannot use says so', async () => {
+    await signInThroughUi(page, server.url, 'analyst');
+    await page.goto(`${server.url}/users`);
+    const alert = page.getByRole('alert');
+    await alert.getByText('Not available to your role').waitFor();
+    expect(await page.getByRole('gridcell', { name: 'admin@quillfield.example' }).count()).toBe(0);
+    await page.close();
+  });
+
   it('an unknown address shows the not-found page inside the shell', async () => {
     await signInThroughUi(page, server.url, 'compliance');
     await page.goto(`${server.url}/no-such-page`);

@@ -48,6 +48,13 @@ export function ErrorAlert({ error, title, showIssues = true }: { error: unknown
   if (!error) return null;
   const message = error instanceof Error ? error.message : 'Something went wrong';
   const issues = showIssues && error instanceof ApiError ? error.issues : undefined;
+  // A page opened by address that the role cannot use: say so plainly rather than as a failure.
+  if (error instanceof ApiError && error.status === 403)
+    return (
+      <Alert tone="warn" title="Not available to your role">
+        {message.replace(/\.$/, '')}. Ask an administrator if you need access.
+      </Alert>
+    );
   return (
     <Alert tone="breach" title={title} issues={issues}>
       {message}
