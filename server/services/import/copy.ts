@@ -19,6 +19,13 @@ export function stagingCopyStream(connection: pg.ClientBase): Writable {
   return connection.query(copyFrom('COPY import_staging (row_no, sym, d, v) FROM STDIN')) as unknown as Writable;
 }
 
+/** Adds symbols (local numbers → text) to import_symbols and looks up the ones already stored. */
+export async function addSymbols(connection: pg.ClientBase, indexes: number[], names: string[]): Promise<void> {
+  if (!indexes.length) return;
+  await connection.query('INSERT INTO import_symbols (sym, symbol) SELECT * FROM unnest($1::int[], $2::text[])', [indexes, names]);
+  await connection.query('UPDATE import_symbols s SET asset_id = a.id FROM assets a WHERE a.symbol = s.symbol AND s.asset_id IS NULL AND s.sym = ANY($1::int[])', [indexes]);
+}
+
 /** Stores the file's symbols (local numbers → text) beside the staged rows. */
 export async function stageSymbols(connection: pg.ClientBase, symbols: string[], used: (index: number) => boolean): Promise<void> {
   const indexes: number[] = [];

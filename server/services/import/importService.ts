@@ -7,7 +7,7 @@
 import { createReadStream } from 'node:fs';
 import { rm } from 'node:fs/promises';
 import { createHash } from 'node:crypto';
-import { Transform } from 'node:stream';
+import { Transform, type Writable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import type { Knex } from 'knex';
 import type pg from 'pg';
@@ -20,8 +20,9 @@ import {
 } from './parse';
 import { DaySet, detectFrequency, gapWarnings, storedValue, type Frequency } from './validate';
 import { createStaging, stageSymbols, stagingCopyStream } from './copy';
-import { convertPrices, createNewAssets, largeReturnWarnings, markAssets, mergeObservations, overlapCounts, overlapProblems, sourceQuery } from './merge';
+import { convertPrices, createNewAssets, hasKnownAssets, largeReturnWarnings, markAssets, mergeObservations, overlapCounts, overlapProblems, sourceQuery } from './merge';
 import { ProblemLog, problemsFile } from './problems';
+import { StreamedMerge } from './streamMerge';
 import { reportProgress } from './progress';
 
 export interface ImportRequest {
@@ -67,7 +68,14 @@ interface FileScan {
 }
 
 /** Reads the file once, checking each row, and COPYs good observations into import_staging while no error has been seen. */
-async function scanAndStage(request: ImportRequest, connection: pg.ClientBase, log: ProblemLog, onProgress: (bytes: number, rows: number) => void): Promise<FileScan> {
+async function scanAndStage(
+  request: ImportRequest,
+  connection: pg.ClientBase,
+  log: ProblemLog,
+  onProgress: (bytes: number, rows: number) => void,
+  /** Where staging lines go: COPY into import_staging (default), or the chunked merge of a streamed commit. */
+  makeSink?: (scan: FileScan) => Writable,
+): Promise<FileScan> {
   const { options } = request;
   const scan: FileScan = {
     delimiter: null, sha256: '', rowsRead: 0, valuesRead: 0, missingValues: 0, staged: 0, symbols: [], days: [], distinctDays: new DaySet(),
@@ -207,7 +215,7 @@ async function scanAndStage(request: ImportRequest, connection: pg.ClientBase, l
   });
   const parser = parse({ delimiter: DELIMITER_CHAR[scan.delimiter], bom: true, relax_column_count: true, skip_empty_lines: false });
   try {
-    await pipeline(source, parser, rows, stagingCopyStream(connection), { signal: request.signal });
+    await pipeline(source, parser, rows, makeSink ? makeSink(scan) : stagingCopyStream(connection), { signal: request.signal });
   } catch (error) {
     const code = (error as { code?: string }).code ?? '';
     if (!code.startsWith('CSV_')) throw error;
@@ -264,10 +272,32 @@ export async function runImport(knex: Knex, request: ImportRequest): Promise<Imp
   try {
     const connection = (await trx.client.acquireConnection()) as pg.PoolClient;
     await createStaging(connection);
-    const scan = await scanAndStage(request, connection, log, (bytes, rows) => {
-      progressBytes = bytes;
-      progressRows = rows;
-    });
+    // A commit of returns is merged chunk by chunk while the file is read (prices need whole series first).
+    let batchId: number | null = request.previewBatchId ?? null;
+    let streamed: StreamedMerge | null = null;
+    if (request.mode === 'commit' && options.valueKind !== 'price') {
+      // One import merges at a time: the dataset row is the lock, taken before anything is compared or stored.
+      await connection.query('SELECT id FROM datasets WHERE id = 1 FOR UPDATE');
+      if (batchId === null) batchId = await insertBatchRow(trx, request);
+    }
+    const scan = await scanAndStage(
+      request,
+      connection,
+      log,
+      (bytes, rows) => {
+        progressBytes = bytes;
+        progressRows = rows;
+      },
+      request.mode === 'commit' && options.valueKind !== 'price'
+        ? (scanned) => {
+            streamed = new StreamedMerge({
+              connection, policy: options.overlap, batchId: batchId!, symbols: scanned.symbols, days: scanned.days,
+              errors: () => log.errors, emit: (p) => log.add(p), onChunk: lap,
+            });
+            return streamed.sink();
+          }
+        : undefined,
+    );
     phase = 'checking';
     progress();
     lap('read, check and COPY to staging');
@@ -309,9 +339,29 @@ export async function runImport(knex: Knex, request: ImportRequest): Promise<Imp
       assetsFound: scan.symbols.filter((_, i) => scan.days[i].count > 0).length, assetsNew: 0,
     };
     const newSymbols = new Set<string>();
-    let batchId: number | null = request.previewBatchId ?? null;
+    const merged = streamed as StreamedMerge | null;
+    if (merged && merged.overlapping > 0) {
+      counts.rejected = merged.overlapping;
+      log.add({ severity: 'error', row: null, column: null, code: 'overlap', message: `${merged.overlapping} observations in the file are already stored; with the overlap policy "reject" nothing was imported` });
+    }
 
-    if (!log.errors && status !== 409) {
+    if (merged && !log.errors && status !== 409) {
+      // Streamed commit: every chunk is already merged inside this transaction.
+      phase = 'storing';
+      progress();
+      await merged.finish();
+      if (!dataset.frequency) await trx('datasets').where({ id: 1 }).update({ frequency, updated_at: trx.fn.now() });
+      const { rows: created } = await connection.query<{ symbol: string }>('SELECT symbol FROM import_symbols WHERE created');
+      created.forEach((r) => newSymbols.add(r.symbol));
+      counts.assetsNew = merged.assetsNew;
+      counts.observations = scan.staged;
+      counts.inserted = merged.inserted;
+      counts.replaced = merged.replaced;
+      if (options.overlap === 'replace') counts.unchanged = scan.staged - merged.inserted - merged.replaced;
+      else counts.skipped = scan.staged - merged.inserted;
+      await markAssets(connection, batchId!);
+      lap('streamed merge finished');
+    } else if (!merged && !log.errors && status !== 409) {
       if (request.mode === 'commit') {
         // One import merges at a time: the dataset row is the lock, taken before the overlap checks.
         await connection.query('SELECT id FROM datasets WHERE id = 1 FOR UPDATE');
@@ -349,12 +399,8 @@ export async function runImport(knex: Knex, request: ImportRequest): Promise<Imp
         progress();
         if (!dataset.frequency) await trx('datasets').where({ id: 1 }).update({ frequency, updated_at: trx.fn.now() });
         counts.assetsNew = await createNewAssets(connection);
-        if (batchId === null) {
-          const [row] = await trx('import_batches').insert({ ref: request.ref, file_name: request.fileName, file_size: request.fileSize, sha256: scan.sha256, status: 'committed' }).returning('id');
-          batchId = row.id as number;
-        }
-        const merged = await mergeObservations(connection, source, options.overlap, batchId, counts.observations);
-        Object.assign(counts, merged);
+        if (batchId === null) batchId = await insertBatchRow(trx, request);
+        Object.assign(counts, await mergeObservations(connection, source, options.overlap, batchId, counts.observations, await hasKnownAssets(connection)));
         lap('merge');
         await markAssets(connection, batchId);
       }
@@ -426,6 +472,14 @@ export async function runImport(knex: Knex, request: ImportRequest): Promise<Imp
   if (summary.errorCount + summary.warningCount > 0 && summary.id !== null) summary.problemsCsvUrl = `/api/imports/${summary.id}/problems.csv`;
   else await rm(problemsFile(request.dataDir, request.ref), { force: true });
   return { summary, status };
+}
+
+/** The batch row a commit's revisions refer to (completed at the end, rolled back with everything else). */
+async function insertBatchRow(trx: Knex.Transaction, request: ImportRequest): Promise<number> {
+  const [row] = await trx('import_batches')
+    .insert({ ref: request.ref, file_name: request.fileName, file_size: request.fileSize, sha256: 'pending', status: 'committed', user_id: request.user.id, user_email: request.user.email })
+    .returning('id');
+  return row.id as number;
 }
 
 function pickCounts(summary: ImportSummary) {

@@ -102,9 +102,17 @@ export interface MergeCounts {
  * by this import cannot exist yet, and for the others an anti-join leaves out stored dates. The caller holds the
  * dataset lock, so no other import writes these keys meanwhile.
  */
-export async function mergeObservations(connection: pg.ClientBase, source: string, policy: 'skip' | 'replace' | 'reject', batchId: number, total: number): Promise<MergeCounts> {
+export async function mergeObservations(
+  connection: pg.ClientBase,
+  source: string,
+  policy: 'skip' | 'replace' | 'reject',
+  batchId: number,
+  total: number,
+  /** False when every asset in the file was created by this import: nothing stored can overlap. */
+  hasKnownAssets = true,
+): Promise<MergeCounts> {
   let replaced = 0;
-  if (policy === 'replace') {
+  if (policy === 'replace' && hasKnownAssets) {
     const revisions = await connection.query(
       `INSERT INTO observation_revisions (batch_id, asset_id, date, old_value, new_value)
        SELECT $1, o.asset_id, o.date, o.value, s.v
@@ -120,14 +128,22 @@ export async function mergeObservations(connection: pg.ClientBase, source: strin
     }
   }
   const fresh = await connection.query(`INSERT INTO return_observations (asset_id, date, value) SELECT s.asset_id, date '1970-01-01' + s.d, s.v FROM (${source}) s WHERE s.created`);
-  const known = await connection.query(`
+  const known = hasKnownAssets
+    ? await connection.query(`
     INSERT INTO return_observations (asset_id, date, value)
     SELECT s.asset_id, date '1970-01-01' + s.d, s.v FROM (${source}) s
-     WHERE NOT s.created AND NOT EXISTS (SELECT 1 FROM return_observations o WHERE o.asset_id = s.asset_id AND o.date = date '1970-01-01' + s.d)`);
+     WHERE NOT s.created AND NOT EXISTS (SELECT 1 FROM return_observations o WHERE o.asset_id = s.asset_id AND o.date = date '1970-01-01' + s.d)`)
+    : { rowCount: 0 };
   const inserted = (fresh.rowCount ?? 0) + (known.rowCount ?? 0);
   const existing = total - inserted;
   if (policy === 'replace') return { inserted, replaced, unchanged: existing - replaced, skipped: 0 };
   return { inserted, replaced: 0, unchanged: 0, skipped: existing };
+}
+
+/** True when some of the file's assets were stored before this import (so overlaps are possible). */
+export async function hasKnownAssets(connection: pg.ClientBase): Promise<boolean> {
+  const { rows } = await connection.query<{ known: boolean }>('SELECT EXISTS (SELECT 1 FROM import_symbols WHERE NOT created) AS known');
+  return rows[0].known;
 }
 
 /** Marks the assets this batch wrote. */
