@@ -32,7 +32,7 @@ export const AssetPatchSchema = z
 export type AssetPatch = z.infer<typeof AssetPatchSchema>;
 
 export const AssetMetadataUploadSchema = z
-  .object({ file: z.any().optional().describe('CSV with a header: symbol, and any of name, sector, country, currency, asset_class') })
+  .object({ file: z.string().optional().meta({ format: 'binary', description: 'CSV with a header: symbol, and any of name, sector, country, currency, asset_class (required)' }) })
   .meta({ id: 'AssetMetadataUpload' });
 
 export const AssetMetadataResultSchema = z

@@ -39,7 +39,7 @@ export type ImportOptionsInput = z.input<typeof ImportOptionsSchema>;
 /** The multipart form of POST /api/imports: a `file` part plus these fields. */
 export const ImportUploadFieldsSchema = ImportOptionsSchema.extend({
   mode: z.enum(['preview', 'commit']).default('preview').describe('preview: validate and report without storing; commit: store'),
-  file: z.any().optional().describe('The CSV file (multipart part named `file`)'),
+  file: z.string().optional().meta({ format: 'binary', description: 'The CSV file (multipart part named `file`; required)' }),
 }).meta({ id: 'ImportUpload' });
 
 export const CommitPreviewBodySchema = ImportOptionsSchema.partial().meta({ id: 'ImportCommitOptions' });
