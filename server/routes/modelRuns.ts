@@ -123,11 +123,12 @@ export function modelRunRoutes(config: Config) {
     method: 'get',
     path: '/:id/compare',
     access: 'signed-in',
-    summary: 'Compare two model versions (principal angles, communality and specific volatility changes)',
+    summary: 'Compare two model versions (principal angles, communality and specific volatility changes, portfolio volatilities)',
+    description: 'Portfolio volatilities cover the portfolios the caller may read (a portfolio manager: their own), annualised by √(periods per year), over the holdings each model covers.',
     params: IdParamsSchema,
     query: CompareQuerySchema,
     response: ModelComparisonSchema,
-    handler: ({ params, query }) => compareRuns(id(params), Number(query.with)),
+    handler: ({ params, query, user }) => compareRuns(id(params), Number(query.with), user),
   });
 
   api.route({

@@ -13,6 +13,7 @@ import { observationCounts, resolveUniverse, windowDates } from './modelPanel';
 import { MODEL_FIT_QUEUE, queueSender } from './modelQueue';
 import type { AuthenticatedUser } from '../auth/access';
 import { communalities, loadingSubspaceAngles, varimax } from '../engine/rotation';
+import { varianceBreakdown } from '../engine/risk';
 import type { FactorModel } from '../engine/types';
 import {
   type ModelRun as ModelRunDto,
@@ -300,7 +301,7 @@ function restrict(model: FactorModel, positions: number[]): FactorModel {
 }
 
 /** Compares two versions on their common assets: principal angles between loading subspaces, per-asset changes. */
-export async function compareRuns(firstId: number, secondId: number): Promise<ModelComparison> {
+export async function compareRuns(firstId: number, secondId: number, user: AuthenticatedUser): Promise<ModelComparison> {
   const [a, b] = [await loadModel(firstId), await loadModel(secondId)];
   const posB = new Map(b.symbols.map((s, i) => [s, i]));
   const common = a.symbols.map((s, i) => [i, posB.get(s)] as const).filter((p): p is readonly [number, number] => p[1] !== undefined);
@@ -316,6 +317,7 @@ export async function compareRuns(firstId: number, secondId: number): Promise<Mo
   const annualA = Math.sqrt(a.header.periodsPerYear);
   const annualB = Math.sqrt(b.header.periodsPerYear);
   return {
+    portfolios: await portfolioVolatilities(a, b, user),
     first: await getRun(firstId),
     second: await getRun(secondId),
     commonAssets: common.length,
@@ -340,4 +342,42 @@ export async function compareRuns(firstId: number, secondId: number): Promise<Mo
       };
     }),
   };
+}
+
+/** Weights of a portfolio on a model's assets (holdings the model does not cover are left out and reported). */
+function weightsOn(stored: StoredModel, holdings: { asset_id: number; weight: number }[]): { weights: Float64Array; covered: number } {
+  const position = new Map(stored.assetIds.map((id, i) => [id, i]));
+  const weights = new Float64Array(stored.assetIds.length);
+  let covered = 0;
+  for (const h of holdings) {
+    const i = position.get(h.asset_id);
+    if (i === undefined) continue;
+    weights[i] += h.weight;
+    covered += h.weight;
+  }
+  return { weights, covered };
+}
+
+/**
+ * Annualised volatility of every portfolio the caller may read (a portfolio manager: their own) under both
+ * versions, over the holdings each model covers (common practice: √(periods per year) annualisation).
+ */
+async function portfolioVolatilities(a: StoredModel, b: StoredModel, user: AuthenticatedUser): Promise<ModelComparison['portfolios']> {
+  const hasPortfolios = await knex().schema.hasTable('portfolios');
+  if (!hasPortfolios) return [];
+  const q = knex()('portfolios').select('id', 'name', 'kind').orderBy('name');
+  if (user.role === 'pm') q.where({ owner_id: user.id });
+  const portfolios: { id: number; name: string; kind: string }[] = await q;
+  if (!portfolios.length) return [];
+  const holdings: { portfolio_id: number; asset_id: number; weight: number }[] = await knex()('portfolio_holdings').select('portfolio_id', 'asset_id', 'weight').whereIn('portfolio_id', portfolios.map((p) => p.id));
+  const byPortfolio = new Map<number, { asset_id: number; weight: number }[]>();
+  for (const h of holdings) byPortfolio.set(h.portfolio_id, [...(byPortfolio.get(h.portfolio_id) ?? []), h]);
+  return portfolios.map((p) => {
+    const own = byPortfolio.get(p.id) ?? [];
+    const wa = weightsOn(a, own);
+    const wb = weightsOn(b, own);
+    const volA = wa.covered > 0 ? varianceBreakdown(a.model, wa.weights, a.header.periodsPerYear).annualisedVolatility : null;
+    const volB = wb.covered > 0 ? varianceBreakdown(b.model, wb.weights, b.header.periodsPerYear).annualisedVolatility : null;
+    return { id: p.id, name: p.name, kind: p.kind, holdings: own.length, coveredFirst: wa.covered, coveredSecond: wb.covered, volFirst: volA, volSecond: volB, volChange: volA !== null && volB !== null ? volB - volA : null };
+  });
 }

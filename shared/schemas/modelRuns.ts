@@ -201,6 +201,20 @@ export const ModelComparisonSchema = z
     /** Principal angles in degrees, ascending (factor models on both sides), or null. */
     principalAnglesDegrees: z.array(z.number()).nullable(),
     note: z.string(),
+    /** Annualised volatility of each portfolio the caller may read, under both versions (weights on covered holdings). */
+    portfolios: z.array(
+      z.object({
+        id: z.number(),
+        name: z.string(),
+        kind: z.string(),
+        holdings: z.number(),
+        coveredFirst: z.number(),
+        coveredSecond: z.number(),
+        volFirst: z.number().nullable(),
+        volSecond: z.number().nullable(),
+        volChange: z.number().nullable(),
+      }),
+    ),
     assets: z.array(
       z.object({
         symbol: z.string(),

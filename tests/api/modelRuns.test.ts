@@ -222,7 +222,30 @@ describe('model runs with a worker', () => {
     expect(compare.body.principalAnglesDegrees.length).toBe(Math.min(3, secondResults.body.factors));
     for (const angle of compare.body.principalAnglesDegrees) expect(angle).toBeGreaterThanOrEqual(0);
     expect(compare.body.assets[0].communalityChange).toBeCloseTo(compare.body.assets[0].communalitySecond - compare.body.assets[0].communalityFirst, 15);
+    // The demo portfolios hold none of this test's assets: no volatility, nothing covered.
+    for (const p of compare.body.portfolios) if (p.coveredFirst === 0) expect(p.volFirst).toBeNull();
   }, 120_000);
+
+  it('compares the demo versions on every portfolio the caller may read', async () => {
+    const demo = await ctx.knex('model_runs').where('label', 'like', '%demo').whereIn('estimator', ['fa', 'ppca']).orderBy('id');
+    expect(demo.length).toBeGreaterThanOrEqual(2);
+    const pm = await ctx.knex('users').where({ email: 'pm@quillfield.example' }).first();
+    const own = await ctx.knex('portfolios').where({ owner_id: pm.id });
+    const res = await request(ctx.app).get(`/api/model-runs/${demo[0].id}/compare?with=${demo[1].id}`).set('Authorization', `Bearer ${tokens.pm}`);
+    expect(res.status).toBe(200);
+    // A portfolio manager sees their own portfolios only.
+    expect(res.body.portfolios.map((p: { id: number }) => p.id).sort()).toEqual(own.map((p: { id: number }) => p.id).sort());
+    const covered = res.body.portfolios.filter((p: { coveredFirst: number }) => p.coveredFirst > 0.999);
+    expect(covered.length).toBeGreaterThan(0);
+    for (const p of covered) {
+      expect(p.volFirst).toBeGreaterThan(0);
+      expect(p.volChange).toBeCloseTo(p.volSecond - p.volFirst, 15);
+    }
+    const asAnalyst = await request(ctx.app).get(`/api/model-runs/${demo[0].id}/compare?with=${demo[1].id}`).set('Authorization', `Bearer ${tokens.analyst}`);
+    const others = await ctx.knex('portfolios').whereNot({ owner_id: pm.id }).select('id');
+    const analystIds = asAnalyst.body.portfolios.map((p: { id: number }) => p.id);
+    expect(analystIds).toEqual(expect.arrayContaining([...own, ...others].map((p: { id: number }) => p.id)));
+  });
 
   it('records a failing run with its reason', async () => {
     // Two assets whose histories do not overlap: each has 40 observations, but no date has both.

@@ -62,6 +62,46 @@ export default function ComparePage() {
               {c.onlyInSecond.length ? `; ${c.onlyInSecond.length} only in ${c.second.label}` : ''}.
             </p>
           </Card>
+          <Card title="Portfolio volatility under each version">
+            {c.portfolios.length ? (
+              <div className="overflow-x-auto">
+                <table className="w-full text-sm" aria-label="Portfolio volatility">
+                  <thead className="border-b border-line text-right text-xs text-ink-soft">
+                    <tr>
+                      <th className="px-2 py-1.5 text-left font-medium">Portfolio</th>
+                      <th className="px-2 py-1.5 font-medium">Holdings</th>
+                      <th className="px-2 py-1.5 font-medium">Covered {c.first.label}</th>
+                      <th className="px-2 py-1.5 font-medium">Covered {c.second.label}</th>
+                      <th className="px-2 py-1.5 font-medium">Vol {c.first.label} (ann. %)</th>
+                      <th className="px-2 py-1.5 font-medium">Vol {c.second.label} (ann. %)</th>
+                      <th className="px-2 py-1.5 font-medium">Change (pp)</th>
+                    </tr>
+                  </thead>
+                  <tbody className="font-mono text-xs tabular-nums">
+                    {c.portfolios.map((p) => (
+                      <tr key={p.id} className="border-b border-line text-right last:border-0">
+                        <td className="px-2 py-1 text-left font-sans text-sm">
+                          <Link className="text-accent hover:underline" to={`/portfolios/${p.id}/risk`}>
+                            {p.name}
+                          </Link>
+                          {p.kind === 'benchmark' ? <span className="ml-1 text-xs text-ink-faint">(benchmark)</span> : null}
+                        </td>
+                        <td className="px-2 py-1">{p.holdings}</td>
+                        <td className="px-2 py-1">{formatNumber(p.coveredFirst * 100, 1)} %</td>
+                        <td className="px-2 py-1">{formatNumber(p.coveredSecond * 100, 1)} %</td>
+                        <td className="px-2 py-1">{p.volFirst === null ? '—' : formatNumber(p.volFirst * 100, 2)}</td>
+                        <td className="px-2 py-1">{p.volSecond === null ? '—' : formatNumber(p.volSecond * 100, 2)}</td>
+                        <td className="px-2 py-1">{p.volChange === null ? '—' : formatNumber(p.volChange * 100, 2, true)}</td>
+                      </tr>
+                    ))}
+                  </tbody>
+                </table>
+                <p className="mt-2 text-xs text-ink-faint">Holdings a model does not cover are left out of its figure (see the covered weight). Annualised by the square root of the periods per year.</p>
+              </div>
+            ) : (
+              <p className="text-sm text-ink-soft">No portfolios you can read.</p>
+            )}
+          </Card>
           <Card title="Per asset">
             <DataGrid<Row> rows={c.assets} columns={columns} getRowId={(p) => p.data.symbol} csvFileName={`loadline-compare-${c.first.id}-${c.second.id}.csv`} quickSearch height={440} ariaLabel="Per-asset changes" />
             <p className="mt-2 text-xs text-ink-faint">For dense covariances (sample, Ledoit–Wolf) the “specific” volatility is the asset’s total volatility and there is no communality.</p>
