@@ -23,6 +23,8 @@ export interface FitComputation {
 
 /** Largest L the recommendation searches (each L costs one FA fit, plus one per held-out block). */
 export const RECOMMEND_MAX_FACTORS = 10;
+/** Largest N × T for which the recommendation also scores held-out time blocks. */
+export const HELD_OUT_MAX_CELLS = 200_000;
 /** How many eigenvalues the scree plot shows. */
 const SPECTRUM_SIZE = 20;
 
@@ -110,7 +112,8 @@ export function computeModelRun(panel: ReturnsPanel, parameters: ModelRunParamet
       if (complete.observations < Math.max(30, maxFactors + 2)) {
         throw new Error(`Choosing the number of factors needs dates on which every asset is observed: only ${complete.observations} such dates; give the number of factors instead`);
       }
-      const feasibleBlocks = complete.observations - Math.floor(complete.observations / 5) >= n / 4 + 2 ? 5 : 0;
+      // Held-out scoring refits every L on 5 training sets (6× the work): used up to HELD_OUT_MAX_CELLS, else BIC decides.
+      const feasibleBlocks = complete.observations - Math.floor(complete.observations / 5) >= n / 4 + 2 && n * complete.observations <= HELD_OUT_MAX_CELLS ? 5 : 0;
       const count = chooseFactorCount(complete, { maxFactors, mean: parameters.mean, heldOutBlocks: feasibleBlocks, tolerance: 1e-8 }, { onProgress: (p) => onProgress({ ...p, stage: 'factor-count' }) });
       factors = count.recommended;
       recommendation = {

@@ -5,6 +5,7 @@ import type { Knex } from 'knex';
 import type PgBoss from 'pg-boss';
 import { testContext, signIn, unique } from '../helpers/app';
 import { createBoss } from '../../server/worker/boss';
+import { bindModels } from '../../server/db/knex';
 import { registerModelFitJobs } from '../../server/worker/modelRunJob';
 import { stopFitThread } from '../../server/worker/fitPool';
 import { MODEL_FIT_QUEUE, stopQueueSenders } from '../../server/services/modelQueue';
@@ -136,8 +137,40 @@ describe('model runs before any worker runs', () => {
   });
 });
 
+let queuedBeforeRestart = 0;
+
+describe('a job queued before the web server restarts', () => {
+  it('stays queued in PostgreSQL while no worker runs and the web server is replaced', async () => {
+    const planted = plantedPanel({ assets: 8, observations: 90, factors: 1, seed: 13 });
+    const symbols = await insertPanel(ctx.knex, unique('MR'), planted.panel.values, 90, 8);
+    const created = await request(ctx.app)
+      .post('/api/model-runs')
+      .set('Authorization', `Bearer ${tokens.analyst}`)
+      .send({ universe: { kind: 'assets', symbols }, window: { kind: 'last', observations: 90 }, estimator: 'ppca', factors: 1 });
+    expect(created.status).toBe(201);
+    queuedBeforeRestart = created.body.id;
+    // The web server goes away (its queue connection closes); a new one starts over the same database.
+    await stopQueueSenders();
+    const restarted = testContext();
+    const res = await request(restarted.app).get(`/api/model-runs/${queuedBeforeRestart}`).set('Authorization', `Bearer ${tokens.analyst}`);
+    expect(res.body.status).toBe('queued');
+    const { job_id: jobId } = await ctx.knex('model_runs').where({ id: queuedBeforeRestart }).first();
+    expect((await ctx.knex('pgboss.job').where({ id: jobId }).first()).state).toBe('created');
+    bindModels(ctx.knex);
+    await restarted.close();
+  });
+});
+
 describe('model runs with a worker', () => {
   beforeAll(startInProcessWorker, 60_000);
+
+  it('runs the job queued before the restart once a worker is up', async () => {
+    const finished = await waitFor('the queued run to finish', async () => {
+      const res = await getRun(queuedBeforeRestart);
+      return ['succeeded', 'failed', 'cancelled'].includes(res.body.status) ? res.body : null;
+    });
+    expect(finished.status).toBe('succeeded');
+  }, 60_000);
 
   it('goes queued → running → succeeded and stores the model with its fingerprint', async () => {
     const t = 250;
@@ -210,7 +243,7 @@ describe('model runs with a worker', () => {
     const done = await waitFor('the second run', async () => {
       const res = await getRun(second.body.id);
       return ['succeeded', 'failed', 'cancelled'].includes(res.body.status) ? res.body : null;
-    });
+    }, 150_000);
     expect(done.status).toBe('succeeded');
     const secondResults = await request(ctx.app).get(`/api/model-runs/${second.body.id}/results`).set('Authorization', `Bearer ${tokens.analyst}`);
     expect(secondResults.body.diagnostics.recommendationReason).toMatch(/L = \d+/);
@@ -224,7 +257,7 @@ describe('model runs with a worker', () => {
     expect(compare.body.assets[0].communalityChange).toBeCloseTo(compare.body.assets[0].communalitySecond - compare.body.assets[0].communalityFirst, 15);
     // The demo portfolios hold none of this test's assets: no volatility, nothing covered.
     for (const p of compare.body.portfolios) if (p.coveredFirst === 0) expect(p.volFirst).toBeNull();
-  }, 120_000);
+  }, 240_000);
 
   it('compares the demo versions on every portfolio the caller may read', async () => {
     const demo = await ctx.knex('model_runs').where('label', 'like', '%demo').whereIn('estimator', ['fa', 'ppca']).orderBy('id');

@@ -237,7 +237,7 @@ export function RunForm({ onQueued }: { onQueued: (run: ModelRun) => void }) {
                   <input type="number" min={1} max={MAX_FACTORS} className="field-input font-mono" {...form.register('factors', { valueAsNumber: true })} />
                 </Field>
               ) : (
-                <p className="text-xs text-ink-faint">Fits L = 1 … 10 and chooses by held-out log-likelihood (or BIC); the reason is shown with the model.</p>
+                <p className="text-xs text-ink-faint">Fits L = 1 … 10 and chooses by the held-out log-likelihood (small panels) or BIC; the reason is shown with the model.</p>
               )}
             </>
           ) : null}
