@@ -3,6 +3,7 @@ import { createReadStream } from 'node:fs';
 import { createHash, randomUUID } from 'node:crypto';
 import { parse } from 'csv-parse';
 import { Model } from 'objection';
+import type { Knex } from 'knex';
 import type { Asset as AssetDto, AssetPatch } from '../../shared/schemas/assets';
 import { Asset } from '../models/Asset';
 import { notFound, unprocessable } from '../http/errors';
@@ -137,23 +138,25 @@ export async function importAssetMetadata(
   if (issues.length) throw unprocessable(`The asset metadata file has ${issues.length} problem${issues.length === 1 ? '' : 's'}; nothing was stored`, issues.slice(0, 100));
 
   return Model.knex().transaction(async (trx) => {
-    const existing = new Set((await trx('assets').whereIn('symbol', rows.map((r) => r.symbol!)).select('symbol')).map((r) => r.symbol as string));
-    let created = 0;
-    let updated = 0;
-    for (const row of rows) {
-      const fields: Record<string, string | null> = {};
-      for (const column of METADATA_COLUMNS) if (column !== 'symbol' && column in row) fields[column] = row[column];
-      if (existing.has(row.symbol!)) {
-        if (Object.keys(fields).length) {
-          if (fields.name === null) delete fields.name; // a name cannot be blanked
-          await trx('assets').where({ symbol: row.symbol }).update({ ...fields, updated_at: trx.fn.now() });
-        }
-        updated++;
-      } else {
-        await trx('assets').insert({ ...fields, symbol: row.symbol, name: fields.name ?? row.symbol });
-        created++;
-      }
-    }
+    // Two set-based statements (not one per row): update the known symbols, then insert the new ones.
+    const given = METADATA_COLUMNS.filter((c) => c !== 'symbol' && columns.includes(c));
+    const arrays: (string | null)[][] = [rows.map((r) => r.symbol), ...given.map((c) => rows.map((r) => r[c] ?? null))];
+    // Column names come from the fixed list above, values only through bindings.
+    const unnest = `unnest(${arrays.map(() => '?::text[]').join(', ')}) AS u(symbol${given.map((c) => `, ${c}`).join('')})`;
+    // A name left empty keeps the stored name; other empty fields clear theirs.
+    const sets = given.map((c) => (c === 'name' ? 'name = coalesce(u.name, a.name)' : `${c} = u.${c}`));
+    const updatedResult = await trx.raw(
+      `UPDATE assets a SET ${[...sets, 'updated_at = now()'].join(', ')} FROM ${unnest} WHERE a.symbol = u.symbol`,
+      arrays as unknown as Knex.RawBinding[],
+    );
+    const createdResult = await trx.raw(
+      `INSERT INTO assets (symbol, name${given.filter((c) => c !== 'name').map((c) => `, ${c}`).join('')})
+       SELECT u.symbol, coalesce(${given.includes('name') ? 'u.name' : 'NULL'}, u.symbol)${given.filter((c) => c !== 'name').map((c) => `, u.${c}`).join('')}
+         FROM ${unnest} WHERE NOT EXISTS (SELECT 1 FROM assets a WHERE a.symbol = u.symbol)`,
+      arrays as unknown as Knex.RawBinding[],
+    );
+    const updated = updatedResult.rowCount ?? 0;
+    const created = createdResult.rowCount ?? 0;
     const [batch] = await trx('import_batches')
       .insert({
         ref: randomUUID(), user_id: actor.id, user_email: actor.email, kind: 'asset-metadata', file_name: file.originalname.slice(0, 255), file_size: file.size,
