@@ -22,7 +22,7 @@ import {
   replaceHoldingsFromCsv,
   updatePortfolio,
 } from '../services/portfoliosService';
-import { portfolioRiskReport, whatIfRisk } from '../services/portfolioRiskService';
+import { portfolioRiskJson, whatIfRisk } from '../services/portfolioRiskService';
 import { requestIp } from '../services/auditService';
 
 const READERS = ['admin', 'analyst', 'pm', 'compliance'] as const;
@@ -145,8 +145,20 @@ export function portfoliosRoutes() {
     params: IdParamsSchema,
     query: RiskQuerySchema,
     response: PortfolioRiskSchema,
-    handler: ({ params, query, user }) =>
-      portfolioRiskReport(user, Number(params.id), { model: query.model ? Number(query.model) : undefined, horizon: query.horizon, draws: query.draws, seed: query.seed }),
+    handler: async ({ params, query, user, res }) => {
+      const { json, cached } = await portfolioRiskJson(user, Number(params.id), {
+        model: query.model ? Number(query.model) : undefined,
+        horizon: query.horizon,
+        draws: query.draws,
+        seed: query.seed,
+      });
+      // Identical inputs give identical answers (see portfolioRiskJson): the header says whether this one was kept.
+      res.setHeader('X-Loadline-Risk-Cache', cached ? 'hit' : 'miss');
+      res.setHeader('Content-Type', 'application/json; charset=utf-8');
+      res.setHeader('Content-Length', Buffer.byteLength(json));
+      res.status(200).end(json); // written as is: no re-serialisation, no body hashing for an ETag
+      return undefined;
+    },
   });
 
   api.route({

@@ -16,7 +16,7 @@ import { EXPOSURE_CAVEAT, RISK_ASSUMPTIONS, parametricTailRisk, portfolioRisk, v
 import { sampleCovariance } from '../engine/sampleCovariance';
 import { ledoitWolf } from '../engine/ledoitWolf';
 import { loadModel, panelSha256, type StoredModel } from './modelStore';
-import { holdingsOf, readablePortfolio } from './portfoliosService';
+import { holdingsOf, readablePortfolio, readablePortfolioWithBenchmark, type PortfolioRow } from './portfoliosService';
 import { simulatePortfolio } from './portfolioSimulation';
 import type { Estimator } from '../../shared/schemas/modelRuns';
 import type { PortfolioRisk, VolatilityRow } from '../../shared/schemas/portfolios';
@@ -89,6 +89,7 @@ export function modelContext(runId: number): Promise<ModelContext> {
 /** Drops cached models (tests; a re-import does not change stored models, whose figures stay valid). */
 export function clearRiskCache(): void {
   contexts.clear();
+  answerCache.clear();
 }
 
 /** The stored returns of the model's window and universe, as the engine's panel (NaN where missing). */
@@ -283,10 +284,6 @@ async function runsFor(chosen: number | undefined): Promise<{ primary: RunRow; l
 
 const PERIOD_NAMES: Record<number, string> = { 252: 'trading days', 52: 'weeks', 12: 'months' };
 
-function round(x: number, digits = 12): number {
-  return Number.isFinite(x) ? Number(x.toPrecision(digits)) : x;
-}
-
 async function computeRisk(
   portfolio: { id: number; name: string },
   holdings: HeldWeights[],
@@ -425,7 +422,7 @@ async function computeRisk(
     factorReturnHistory = stored.dates.map((date, t) => {
       let s = 0;
       for (let k = 0; k < l; k++) s += exposures[k] * scores[t * l + k];
-      return { date, value: round(s) };
+      return { date, value: s };
     });
   }
 
@@ -530,30 +527,75 @@ async function cachedHoldings(portfolioId: number, version: number): Promise<Hel
   return rows;
 }
 
-async function benchmarkOf(user: Actor, benchmarkId: number | null): Promise<{ id: number; name: string; holdings: HeldWeights[] } | null> {
+/** The benchmark's holdings, or null without one (or when the caller may not read it: then no tracking error). */
+async function benchmarkFrom(row: PortfolioRow | null): Promise<{ id: number; name: string; version: number; holdings: HeldWeights[] } | null> {
+  if (!row) return null;
+  const holdings = await cachedHoldings(row.id, row.version);
+  return holdings.length ? { id: row.id, name: row.name, version: row.version, holdings } : null;
+}
+
+async function benchmarkOf(user: Actor, benchmarkId: number | null) {
   if (!benchmarkId) return null;
   try {
-    const row = await readablePortfolio(user, benchmarkId);
-    const holdings = await cachedHoldings(row.id, row.version);
-    if (!holdings.length) return null;
-    return { id: row.id, name: row.name, holdings };
+    return await benchmarkFrom(await readablePortfolio(user, benchmarkId));
   } catch {
-    return null; // a benchmark the caller cannot read gives no tracking error
+    return null;
   }
 }
 
 /** Risk of a saved portfolio. */
 export async function portfolioRiskReport(user: Actor, portfolioId: number, request: RiskRequest): Promise<PortfolioRisk> {
-  // The portfolio and the model runs in parallel: two short queries.
-  // A portfolio the caller may not read answers 404 before anything is said about models.
-  const [rowResult, runsResult] = await Promise.allSettled([readablePortfolio(user, portfolioId), runsFor(request.model)]);
+  const inputs = await savedRiskInputs(user, portfolioId, request);
+  return computeRisk(inputs.portfolio, inputs.holdings, inputs.benchmark, request, false, inputs.runs);
+}
+
+async function savedRiskInputs(user: Actor, portfolioId: number, request: RiskRequest) {
+  // The portfolio and the model runs in parallel; a portfolio the caller may not read answers 404 before anything is
+  // said about models.
+  const [rowResult, runsResult] = await Promise.allSettled([readablePortfolioWithBenchmark(user, portfolioId), runsFor(request.model)]);
   if (rowResult.status === 'rejected') throw rowResult.reason;
   if (runsResult.status === 'rejected') throw runsResult.reason;
-  const row = rowResult.value;
+  const { row, benchmark: benchmarkRow } = rowResult.value;
   const runs = runsResult.value;
-  const [holdings, benchmark] = await Promise.all([cachedHoldings(row.id, row.version), benchmarkOf(user, row.benchmark_portfolio_id)]);
+  const [holdings, benchmark] = await Promise.all([cachedHoldings(row.id, row.version), benchmarkFrom(benchmarkRow)]);
   if (!holdings.length) throw unprocessable(`Portfolio '${row.name}' has no holdings yet`, [{ path: 'holdings', message: 'add holdings before asking for risk' }]);
-  return computeRisk({ id: row.id, name: row.name }, holdings, benchmark, request, false, runs);
+  return { portfolio: { id: row.id, name: row.name }, version: row.version, holdings, benchmark, runs };
+}
+
+/**
+ * The saved portfolio's risk as JSON text, kept per process for identical inputs: the same portfolio version, the
+ * same benchmark version, the same model runs (and their lifecycle), the same horizon, draws and seed. Every input is
+ * immutable under its key (holdings change only with a new version, stored model results never change), so a kept
+ * answer is exactly what a recomputation would give; what-if answers are never kept.
+ */
+const answerCache = new Map<string, string>();
+const MAX_CACHED_ANSWERS = 64;
+
+export async function portfolioRiskJson(user: Actor, portfolioId: number, request: RiskRequest): Promise<{ json: string; cached: boolean }> {
+  const inputs = await savedRiskInputs(user, portfolioId, request);
+  const { primary, latestByEstimator } = inputs.runs;
+  const key = JSON.stringify([
+    inputs.portfolio.id,
+    inputs.version,
+    inputs.portfolio.name,
+    inputs.benchmark ? [inputs.benchmark.id, inputs.benchmark.version, inputs.benchmark.name] : null,
+    [primary.id, primary.lifecycle, primary.approved_at ? new Date(primary.approved_at).getTime() : null],
+    [...latestByEstimator.entries()].map(([e, r]) => [e, r.id]),
+    request.horizon,
+    request.draws,
+    request.seed,
+  ]);
+  const hit = answerCache.get(key);
+  if (hit !== undefined) {
+    answerCache.delete(key);
+    answerCache.set(key, hit);
+    return { json: hit, cached: true };
+  }
+  const answer = await computeRisk(inputs.portfolio, inputs.holdings, inputs.benchmark, request, false, inputs.runs);
+  const json = JSON.stringify(answer);
+  answerCache.set(key, json);
+  while (answerCache.size > MAX_CACHED_ANSWERS) answerCache.delete(answerCache.keys().next().value!);
+  return { json, cached: false };
 }
 
 /** Risk of edited weights for a saved portfolio (nothing is stored). Weights are used as given. */

@@ -27,7 +27,7 @@ import {
 type Issue = { path: string; message: string };
 type Actor = Pick<AuthenticatedUser, 'id' | 'email' | 'role'>;
 
-interface PortfolioRow {
+export interface PortfolioRow {
   id: number;
   name: string;
   kind: 'fund' | 'benchmark';
@@ -111,6 +111,21 @@ export async function readablePortfolio(user: Actor, id: number, trx?: Knex.Tran
   const row = (await scopeForReader(summaryQuery(db(trx)), user).where('p.id', id).first()) as PortfolioRow | undefined;
   if (!row) throw notFound(`Portfolio ${id} does not exist or is not yours to see`);
   return row;
+}
+
+/**
+ * The portfolio and, when it has one the caller may read, its benchmark, in one query (the risk page's hot path);
+ * 404 when the portfolio itself is not readable.
+ */
+export async function readablePortfolioWithBenchmark(user: Actor, id: number): Promise<{ row: PortfolioRow; benchmark: PortfolioRow | null }> {
+  const k = db();
+  const rows = (await scopeForReader(summaryQuery(k), user).where((w) =>
+    w.where('p.id', id).orWhere('p.id', k('portfolios').select('benchmark_portfolio_id').where({ id })),
+  )) as PortfolioRow[];
+  const row = rows.find((r) => r.id === id);
+  if (!row) throw notFound(`Portfolio ${id} does not exist or is not yours to see`);
+  const benchmark = row.benchmark_portfolio_id ? (rows.find((r) => r.id === row.benchmark_portfolio_id) ?? null) : null;
+  return { row, benchmark };
 }
 
 async function editablePortfolio(user: Actor, id: number, trx: Knex.Transaction): Promise<PortfolioRow> {

@@ -251,6 +251,29 @@ describe('risk', () => {
     expect(r.assumptions.join(' ')).toMatch(/normal/);
   });
 
+  it('keeps an answer only while its inputs are unchanged: new holdings give a fresh answer', async () => {
+    const ask = () => request(ctx.app).get(`/api/portfolios/${fundId}/risk`).query({ model: faRun.id, seed: 11 }).set(auth('pm'));
+    const first = await ask();
+    const second = await ask();
+    expect(second.headers['x-loadline-risk-cache']).toBe('hit');
+    expect(second.body).toEqual(first.body);
+    const detail = await request(ctx.app).get(`/api/portfolios/${fundId}`).set(auth('pm'));
+    const original = detail.body.holdings.map((h: { symbol: string; weight: number }) => ({ symbol: h.symbol, weight: h.weight }));
+    const tilted = original.map((h: { symbol: string; weight: number }, i: number) => ({ symbol: h.symbol, weight: i === 0 ? h.weight + 0.3 : h.weight }));
+    const total = tilted.reduce((sum: number, h: { weight: number }) => sum + h.weight, 0);
+    await request(ctx.app)
+      .put(`/api/portfolios/${fundId}/holdings`)
+      .set(auth('pm'))
+      .send({ mode: 'weights', holdings: tilted.map((h: { symbol: string; weight: number }) => ({ ...h, weight: h.weight / total })) })
+      .expect(200);
+    const third = await ask();
+    expect(third.headers['x-loadline-risk-cache']).toBe('miss');
+    expect(third.body.annualisedVolatility).not.toBeCloseTo(first.body.annualisedVolatility, 8);
+    await request(ctx.app).put(`/api/portfolios/${fundId}/holdings`).set(auth('pm')).send({ mode: 'weights', holdings: original }).expect(200);
+    const restored = await ask();
+    expect(restored.body.annualisedVolatility).toBeCloseTo(first.body.annualisedVolatility, 14);
+  });
+
   it('uses the chosen PPCA model for the PPCA row', async () => {
     const res = await request(ctx.app).get(`/api/portfolios/${fundId}/risk`).query({ model: ppcaRun.id }).set(auth('analyst'));
     expect(res.status).toBe(200);

@@ -173,6 +173,7 @@ export default function PortfolioEditorPage() {
             </div>
           ) : null}
           <HoldingsGrid
+            key={mode}
             rows={rows}
             onChange={edit}
             valueLabel={mode === 'weights' ? 'Weight (%)' : `Market value (${data.baseCurrency})`}
