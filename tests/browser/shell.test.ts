@@ -1,4 +1,4 @@
-import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it } from 'vitest';
+import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it, onTestFailed } from 'vitest';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
@@ -38,6 +38,14 @@ afterAll(async () => {
 beforeEach(async () => {
   await context.clearCookies();
   page = await context.newPage();
+  const current = page;
+  // What the page showed when a test failed, for the log.
+  onTestFailed(async ({ task }) => {
+    if (current.isClosed()) return;
+    const file = join(tmpdir(), `loadline-failed-shell-${task.name.replace(/\W+/g, '-').slice(0, 60)}.png`);
+    await current.screenshot({ path: file }).catch(() => undefined);
+    console.error(`[browser] failed at ${current.url()}; screenshot ${file}`);
+  });
   pageErrors = [];
   page.on('pageerror', (error) => pageErrors.push(error.message));
 });

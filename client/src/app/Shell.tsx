@@ -127,7 +127,12 @@ function Breadcrumb() {
   if (!item) return null;
   return (
     <p className="text-sm text-ink-faint">
-      {item.section} <span aria-hidden>/</span> <span className="text-ink-soft">{item.label}</span>
+      {item.section !== item.label ? (
+        <>
+          {item.section} <span aria-hidden>/</span>{' '}
+        </>
+      ) : null}
+      <span className="text-ink-soft">{item.label}</span>
     </p>
   );
 }

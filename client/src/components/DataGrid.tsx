@@ -95,6 +95,7 @@ export type DataGridProps<Row> = {
   csvFileName?: string;
   /** Shows a search box that filters across all columns. */
   quickSearch?: boolean;
+  /** The grid's height; a number is a maximum: short tables shrink to their rows (at least three rows tall). */
   height?: number | string;
   loading?: boolean;
   emptyMessage?: string;
@@ -143,6 +144,8 @@ export function DataGrid<Row>({
   const getRowClass = useMemo(() => (rowClass ? (params: RowClassParams<Row>) => (params.data ? rowClass(params.data) : undefined) : undefined), [rowClass]);
   const overlay = useMemo(() => `<span class="ll-grid-empty">${emptyMessage.replace(/[<>&]/g, '')}</span>`, [emptyMessage]);
   const showToolbar = quickSearch || csvFileName || toolbar;
+  // Header 34 px + rows of 32 px + borders and room for a horizontal scrollbar (theme headerHeight, rowHeight).
+  const boxHeight = typeof height === 'number' && rows ? Math.min(height, 36 + Math.max(rows.length, 3) * 32 + 16) : height;
 
   return (
     <div className="flex flex-col gap-2" aria-label={ariaLabel} role={ariaLabel ? 'region' : undefined}>
@@ -166,7 +169,7 @@ export function DataGrid<Row>({
           ) : null}
         </div>
       ) : null}
-      <div style={{ height }}>
+      <div style={{ height: boxHeight }}>
         <AgGridReact<Row>
           ref={gridRef}
           theme={loadlineGridTheme}
