@@ -20,4 +20,5 @@ process.on('SIGUSR2', () => {
   const usage = process.cpuUsage();
   process.stdout.write(`CPU ${usage.user + usage.system}\n`);
 });
-process.on('SIGTERM', () => server.close(() => knex.destroy().then(() => process.exit(0))));
+// Stopped by the bench when it is done: in-flight requests of the last load run do not matter.
+process.on('SIGTERM', () => process.exit(0));
