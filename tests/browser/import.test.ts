@@ -1,5 +1,6 @@
 // Upload → preview → commit → data-quality grid, in Debian's headless Chromium against the real app and database.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { readFileSync } from 'node:fs';
 import type { Knex } from 'knex';
 import type { Page } from 'playwright-core';
 import { launchBrowser, signInThroughUi, startServer } from '../helpers/browser';
@@ -68,7 +69,15 @@ describe('importing return series in the browser', () => {
   it('a file with errors shows the problems with row and column, and cannot be committed', async () => {
     const prefix = unique('Q').toUpperCase().slice(0, 12);
     await page.goto(`${server.url}/imports`);
-    await page.getByLabel('CSV file').setInputFiles(fixtureCopy('bad-dates.csv', prefix));
+    // Dropped onto the drop zone this time (a real DataTransfer carrying the file).
+    const text = readFileSync(fixtureCopy('bad-dates.csv', prefix), 'utf8');
+    const dataTransfer = await page.evaluateHandle((csv) => {
+      const transfer = new DataTransfer();
+      transfer.items.add(new File([csv], 'dropped-bad-dates.csv', { type: 'text/csv' }));
+      return transfer;
+    }, text);
+    await page.getByTestId('drop-zone').dispatchEvent('drop', { dataTransfer });
+    await expect(page.getByLabel('Chosen file').textContent()).resolves.toContain('dropped-bad-dates.csv');
     await page.getByRole('button', { name: 'Preview' }).click();
     const problems = page.getByRole('list', { name: 'Problems' });
     await problems.waitFor({ timeout: 60_000 });

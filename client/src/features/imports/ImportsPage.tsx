@@ -41,6 +41,16 @@ const LABELS: Record<string, string> = {
   daily: 'Daily', weekly: 'Weekly', monthly: 'Monthly',
 };
 
+/** The option pickers of the form, in display order. */
+const SELECTS: { name: 'format' | 'valueKind' | 'delimiter' | 'dateFormat' | 'overlap' | 'frequency'; label: string; hint?: string; options: readonly string[] }[] = [
+  { name: 'format', label: 'Format', options: IMPORT_FORMATS },
+  { name: 'valueKind', label: 'Values', options: VALUE_KINDS },
+  { name: 'delimiter', label: 'Delimiter', options: DELIMITERS },
+  { name: 'dateFormat', label: 'Date format', hint: 'Ambiguous dates are never guessed', options: DATE_FORMATS },
+  { name: 'overlap', label: 'Already stored dates', options: OVERLAP_POLICIES },
+  { name: 'frequency', label: 'Frequency', options: ['auto', ...FREQUENCIES] },
+];
+
 function percent(fraction: number): string {
   return `${Math.round(fraction * 100)} %`;
 }
@@ -249,36 +259,17 @@ export default function ImportsPage() {
           </div>
 
           <div className="grid grid-cols-1 gap-3 md:grid-cols-4">
-            <Field label="Format" error={errors.format?.message}>
-              <select className="field-input" {...form.register('format')}>
-                {IMPORT_FORMATS.map((v) => <option key={v} value={v}>{LABELS[v]}</option>)}
-              </select>
-            </Field>
-            <Field label="Values" error={errors.valueKind?.message}>
-              <select className="field-input" {...form.register('valueKind')}>
-                {VALUE_KINDS.map((v) => <option key={v} value={v}>{VALUE_KIND_LABELS[v]}</option>)}
-              </select>
-            </Field>
-            <Field label="Delimiter" error={errors.delimiter?.message}>
-              <select className="field-input" {...form.register('delimiter')}>
-                {DELIMITERS.map((v) => <option key={v} value={v}>{LABELS[v]}</option>)}
-              </select>
-            </Field>
-            <Field label="Date format" hint="Ambiguous dates are never guessed" error={errors.dateFormat?.message}>
-              <select className="field-input" {...form.register('dateFormat')}>
-                {DATE_FORMATS.map((v) => <option key={v} value={v}>{LABELS[v]}</option>)}
-              </select>
-            </Field>
-            <Field label="Already stored dates" error={errors.overlap?.message}>
-              <select className="field-input" {...form.register('overlap')}>
-                {OVERLAP_POLICIES.map((v) => <option key={v} value={v}>{LABELS[v]}</option>)}
-              </select>
-            </Field>
-            <Field label="Frequency" error={errors.frequency?.message}>
-              <select className="field-input" {...form.register('frequency')}>
-                {['auto', ...FREQUENCIES].map((v) => <option key={v} value={v}>{LABELS[v]}</option>)}
-              </select>
-            </Field>
+            {SELECTS.map(({ name, label, hint, options }) => (
+              <Field key={name} label={label} hint={hint} error={errors[name]?.message}>
+                <select className="field-input" {...form.register(name)}>
+                  {options.map((v) => (
+                    <option key={v} value={v}>
+                      {name === 'valueKind' ? VALUE_KIND_LABELS[v as (typeof VALUE_KINDS)[number]] : LABELS[v]}
+                    </option>
+                  ))}
+                </select>
+              </Field>
+            ))}
             <Field label="Warn above |return| (%)" error={errors.thresholdPercent?.message}>
               <input className="field-input font-mono" type="number" step="any" {...form.register('thresholdPercent', { valueAsNumber: true })} />
             </Field>
