@@ -64,7 +64,11 @@ export async function runModelFitJob(job: PgBoss.Job<ModelFitJob>, options: Mode
       progress_fraction: 0.02,
     })
     .returning(['id', 'attempts', 'parameters', 'label']);
-  if (!claimed.length) return; // cancelled, finished or gone: nothing to do
+  if (!claimed.length) {
+    // Cancelled while waiting (e.g. its previous worker died after the request): finish it as cancelled.
+    await db()('model_runs').where({ id: runId }).whereIn('status', ['queued', 'running']).whereNotNull('cancel_requested_at').update({ status: 'cancelled', finished_at: db().fn.now(), updated_at: db().fn.now() });
+    return; // cancelled, finished or gone: nothing to do
+  }
   const { attempts, parameters } = claimed[0] as { attempts: number; parameters: ModelRun['parameters'] };
   const mine = () => db()('model_runs').where({ id: runId, attempts, status: 'running' });
 
@@ -179,6 +183,13 @@ export async function sweepModelRuns(boss: PgBoss, staleSeconds: number, log: (m
   const maxAttempts = MODEL_FIT_QUEUE_OPTIONS.retryLimit + 1;
   const stale: ModelRun[] = await ModelRun.query().where('status', 'running').where('heartbeat_at', '<', db().raw(`now() - make_interval(secs => ?)`, [staleSeconds]));
   for (const run of stale) {
+    if (run.cancel_requested_at) {
+      // Its worker died after a cancel request: nothing to retry.
+      await db()('model_runs').where({ id: run.id, attempts: run.attempts, status: 'running' }).update({ status: 'cancelled', finished_at: db().fn.now(), updated_at: db().fn.now() });
+      if (run.job_id) await boss.cancel(MODEL_FIT_QUEUE, run.job_id).catch(() => undefined);
+      touched++;
+      continue;
+    }
     const job = run.job_id ? await boss.getJobById(MODEL_FIT_QUEUE, run.job_id).catch(() => null) : null;
     const retriesLeft = run.attempts < maxAttempts && job !== null;
     if (retriesLeft) {
