@@ -13,8 +13,7 @@ import type { AuthenticatedUser } from '../auth/access';
 import { conflict, notFound, unprocessable } from '../http/errors';
 import type { CovarianceModel, DenseCovarianceModel, FactorModel, MeanHandling, ReturnsPanel, Weighting } from '../engine/types';
 import { EXPOSURE_CAVEAT, RISK_ASSUMPTIONS, parametricTailRisk, portfolioRisk, varianceBreakdown } from '../engine/risk';
-import { sampleCovariance } from '../engine/sampleCovariance';
-import { ledoitWolf } from '../engine/ledoitWolf';
+import { fitModel } from '../engine/fit';
 import { loadModel, panelSha256, type StoredModel } from './modelStore';
 import { holdingsOf, readablePortfolio, readablePortfolioWithBenchmark, type PortfolioRow } from './portfoliosService';
 import { simulatePortfolio } from './portfolioSimulation';
@@ -121,16 +120,18 @@ function comparisonsFor(context: ModelContext): Promise<Comparisons> {
     context.comparisons = (async () => {
       const started = performance.now();
       const panel = await loadModelPanel(context.stored);
-      const options = { weighting: context.weighting, mean: context.mean };
-      const sample = sampleCovariance(panel, options);
-      const shrunk = ledoitWolf(panel, options);
-      const n = panel.assets;
+      // The engine's fitModel with the run's own weighting and mean handling (pairwise-complete when values are
+      // missing); no log-likelihood (O(N³)) and the smallest spectrum, which the page does not show.
+      const options = { weighting: context.weighting, mean: context.mean, missing: 'pairwise' as const, denseLogLikelihood: false, spectrumSize: 1 };
+      const sample = fitModel(panel, { method: 'sample', ...options });
+      const shrunk = fitModel(panel, { method: 'ledoit-wolf', ...options });
+      const flags = [...sample.diagnostics.flags, ...shrunk.diagnostics.flags];
       return {
-        sample: { kind: 'dense', method: 'sample', assets: n, mean: sample.mean, covariance: sample.covariance },
-        ledoitWolf: { kind: 'dense', method: 'ledoit-wolf', assets: n, mean: shrunk.mean, covariance: shrunk.covariance },
-        shrinkage: shrunk.shrinkage,
-        pairwise: sample.pairwise,
-        repairedToPsd: sample.repairedToPsd || shrunk.repairedToPsd,
+        sample: sample.model as DenseCovarianceModel,
+        ledoitWolf: shrunk.model as DenseCovarianceModel,
+        shrinkage: shrunk.diagnostics.shrinkage ?? 0,
+        pairwise: flags.includes('pairwise-complete-covariance'),
+        repairedToPsd: flags.includes('pairwise-covariance-repaired-to-psd'),
         dataMatches: panelSha256(panel.values) === context.dataSha256,
         seconds: (performance.now() - started) / 1000,
       } satisfies Comparisons;
