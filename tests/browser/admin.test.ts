@@ -1,10 +1,10 @@
-import { afterAll, beforeAll, beforeEach, describe, expect, it, onTestFailed } from 'vitest';
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Knex } from 'knex';
 import type { BrowserContext, Page } from 'playwright-core';
-import { launchBrowser, signInThroughUi, startServer } from '../helpers/browser';
+import { launchBrowser, screenshotOnFailure, signInThroughUi, startServer, warmUp } from '../helpers/browser';
 import { unique } from '../helpers/app';
 import { loadConfig } from '../../server/config';
 import { createKnex } from '../../server/db/knex';
@@ -25,11 +25,7 @@ beforeAll(async () => {
   server = await startServer({ smtpUrl: `smtp://127.0.0.1:${sink.port}` });
   browser = await launchBrowser();
   context = browser.context;
-  // Warm-up outside the tests: a cold browser and server on a busy machine can take long for the first page.
-  const warm = await context.newPage();
-  await warm.goto(`${server.url}/sign-in`, { timeout: 90_000 });
-  await warm.getByLabel('E-mail').waitFor({ timeout: 90_000 });
-  await warm.close();
+  await warmUp(context, server.url);
 });
 afterAll(async () => {
   await browser?.close();
@@ -40,14 +36,7 @@ afterAll(async () => {
 beforeEach(async () => {
   await context.clearCookies();
   page = await context.newPage();
-  const current = page;
-  // What the page showed when a test failed, for the log.
-  onTestFailed(async ({ task }) => {
-    if (current.isClosed()) return;
-    const file = join(tmpdir(), `loadline-failed-admin-${task.name.replace(/\W+/g, '-').slice(0, 60)}.png`);
-    await current.screenshot({ path: file }).catch(() => undefined);
-    console.error(`[browser] failed at ${current.url()}; screenshot ${file}`);
-  });
+  screenshotOnFailure(page, 'admin');
 });
 
 async function signInAs(email: string, password: string) {

@@ -1,8 +1,8 @@
-import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it, onTestFailed } from 'vitest';
+import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
-import { launchBrowser, signInThroughUi, startServer } from '../helpers/browser';
+import { launchBrowser, screenshotOnFailure, signInThroughUi, startServer, warmUp } from '../helpers/browser';
 import { demoUser } from '../helpers/app';
 import type { Role } from '../../shared/schemas/common';
 
@@ -25,11 +25,7 @@ beforeAll(async () => {
   server = await startServer();
   browser = await launchBrowser();
   context = browser.context;
-  // Warm-up outside the tests: a cold browser and server on a busy machine can take long for the first page.
-  const warm = await context.newPage();
-  await warm.goto(`${server.url}/sign-in`, { timeout: 90_000 });
-  await warm.getByLabel('E-mail').waitFor({ timeout: 90_000 });
-  await warm.close();
+  await warmUp(context, server.url);
 });
 afterAll(async () => {
   await browser?.close();
@@ -38,14 +34,7 @@ afterAll(async () => {
 beforeEach(async () => {
   await context.clearCookies();
   page = await context.newPage();
-  const current = page;
-  // What the page showed when a test failed, for the log.
-  onTestFailed(async ({ task }) => {
-    if (current.isClosed()) return;
-    const file = join(tmpdir(), `loadline-failed-shell-${task.name.replace(/\W+/g, '-').slice(0, 60)}.png`);
-    await current.screenshot({ path: file }).catch(() => undefined);
-    console.error(`[browser] failed at ${current.url()}; screenshot ${file}`);
-  });
+  screenshotOnFailure(page, 'shell');
   pageErrors = [];
   page.on('pageerror', (error) => pageErrors.push(error.message));
 });

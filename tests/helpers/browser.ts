@@ -2,6 +2,7 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Server } from 'node:http';
+import { onTestFailed } from 'vitest';
 import { chromium, type BrowserContext, type Page } from 'playwright-core';
 import { loadConfig, type Config } from '../../server/config';
 import { createKnex, bindModels } from '../../server/db/knex';
@@ -54,4 +55,22 @@ export async function signInThroughUi(page: Page, baseUrl: string, role: Role): 
   await page.getByLabel('Password').fill(user.password);
   await page.getByRole('button', { name: 'Sign in' }).click();
   await page.waitForURL((url) => !url.pathname.startsWith('/sign-in'));
+}
+
+/** Opens the sign-in page once with generous timeouts (call in beforeAll): a cold browser and server on a busy machine must not eat a test's time. */
+export async function warmUp(context: BrowserContext, baseUrl: string): Promise<void> {
+  const page = await context.newPage();
+  await page.goto(`${baseUrl}/sign-in`, { timeout: 90_000 });
+  await page.getByLabel('E-mail').waitFor({ timeout: 90_000 });
+  await page.close();
+}
+
+/** Call in beforeEach after opening the page: when the test fails, the page's look is kept in a screenshot and its address logged. */
+export function screenshotOnFailure(page: Page, label: string): void {
+  onTestFailed(async ({ task }) => {
+    if (page.isClosed()) return;
+    const file = join(tmpdir(), `loadline-failed-${label}-${task.name.replace(/\W+/g, '-').slice(0, 60)}.png`);
+    await page.screenshot({ path: file }).catch(() => undefined);
+    console.error(`[browser] failed at ${page.url()}; screenshot ${file}`);
+  });
 }

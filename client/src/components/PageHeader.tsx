@@ -1,11 +1,9 @@
-import { useEffect, type ReactNode } from 'react';
+import type { ReactNode } from 'react';
+import { useDocumentTitle } from '../lib/useDocumentTitle';
 
 /** The top of every page: a title, one line saying what the page is for, and the page's own actions on the right. */
 export function PageHeader({ title, description, actions }: { title: string; description?: ReactNode; actions?: ReactNode }) {
-  // The tab and the browser history name the page.
-  useEffect(() => {
-    document.title = `${title} · Loadline`;
-  }, [title]);
+  useDocumentTitle(title);
   return (
     <header className="mb-5 flex flex-wrap items-end justify-between gap-3 border-b border-line pb-4">
       <div className="min-w-0">

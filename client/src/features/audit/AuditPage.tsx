@@ -11,6 +11,7 @@ import { Button } from '../../components/Button';
 import { Field } from '../../components/Field';
 import { ErrorAlert } from '../../components/Alert';
 import { DataGrid } from '../../components/DataGrid';
+import { Pager } from '../../components/Pager';
 import { formatCount, formatDateTimeSeconds } from '../../lib/format';
 import { useAuditActions, useAuditEvents, useExportAudit } from './api';
 
@@ -85,7 +86,6 @@ export default function AuditPage() {
   );
 
   const total = events.data?.total ?? 0;
-  const pages = Math.max(1, Math.ceil(total / PAGE_SIZE));
   const first = total ? (page - 1) * PAGE_SIZE + 1 : 0;
   const last = Math.min(total, page * PAGE_SIZE);
 
@@ -161,17 +161,7 @@ export default function AuditPage() {
                 'No events'
               )}
             </span>
-            <span className="flex items-center gap-2">
-              <Button size="sm" disabled={page <= 1} onClick={() => goTo(page - 1)}>
-                Newer
-              </Button>
-              <span className="font-mono tabular-nums">
-                {page} / {pages}
-              </span>
-              <Button size="sm" disabled={page >= pages} onClick={() => goTo(page + 1)}>
-                Older
-              </Button>
-            </span>
+            <Pager page={page} total={total} pageSize={PAGE_SIZE} onPage={goTo} />
           </div>
         }
       />

@@ -1,11 +1,10 @@
-import { useEffect, type ReactNode } from 'react';
+import type { ReactNode } from 'react';
+import { useDocumentTitle } from '../../lib/useDocumentTitle';
 import { Wordmark } from '../../app/Wordmark';
 
 /** The frame of the public pages (sign-in, password links): a single calm card on the page background. */
 export function AuthFrame({ title, children, footer }: { title: string; children: ReactNode; footer?: ReactNode }) {
-  useEffect(() => {
-    document.title = `${title} · Loadline`;
-  }, [title]);
+  useDocumentTitle(title);
   return (
     <div className="flex min-h-screen flex-col items-center justify-center px-4 py-10">
       <div className="w-full max-w-sm">

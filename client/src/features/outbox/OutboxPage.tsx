@@ -3,9 +3,9 @@ import type { ColDef } from 'ag-grid-community';
 import type { OutboxMessageView } from '@shared/schemas/outbox';
 import { PageHeader } from '../../components/PageHeader';
 import { Card } from '../../components/Card';
-import { Button } from '../../components/Button';
 import { ErrorAlert } from '../../components/Alert';
 import { DataGrid } from '../../components/DataGrid';
+import { Pager } from '../../components/Pager';
 import { formatCount, formatDateTime, formatDateTimeSeconds } from '../../lib/format';
 import { useOutbox, useOutboxMessage } from './api';
 
@@ -17,7 +17,6 @@ export default function OutboxPage() {
   const [selectedId, setSelectedId] = useState<number | null>(null);
   const outbox = useOutbox({ to: to.trim() || undefined, page, pageSize: PAGE_SIZE });
   const total = outbox.data?.total ?? 0;
-  const pages = Math.max(1, Math.ceil(total / PAGE_SIZE));
 
   const columns = useMemo<ColDef<OutboxMessageView>[]>(
     () => [
@@ -60,17 +59,11 @@ export default function OutboxPage() {
                     setPage(1);
                   }}
                 />
-                <span className="flex items-center gap-2 text-xs text-ink-soft">
-                  <span className="font-mono tabular-nums">{formatCount(total)}</span> messages
-                  <Button size="sm" disabled={page <= 1} onClick={() => setPage(page - 1)}>
-                    Newer
-                  </Button>
-                  <span className="font-mono tabular-nums">
-                    {page} / {pages}
+                <span className="flex items-center gap-3 text-xs text-ink-soft">
+                  <span>
+                    <span className="font-mono tabular-nums">{formatCount(total)}</span> messages
                   </span>
-                  <Button size="sm" disabled={page >= pages} onClick={() => setPage(page + 1)}>
-                    Older
-                  </Button>
+                  <Pager page={page} total={total} pageSize={PAGE_SIZE} onPage={setPage} />
                 </span>
               </div>
             }
