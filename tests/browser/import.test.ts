@@ -63,7 +63,12 @@ describe('importing return series in the browser', () => {
     const row = grid.locator('.ag-row', { hasText: `${prefix}BBB` }).first();
     await expect(row.textContent()).resolves.toContain('2024-01-02');
     await expect(row.textContent()).resolves.toContain('30');
-    await page.getByRole('img', { name: /Coverage heatmap/ }).waitFor();
+    const heatmap = page.getByRole('img', { name: /Coverage heatmap/ });
+    await heatmap.waitFor();
+    // The heatmap takes up room on the page (its container grows with it) and holds a cell per asset and month.
+    const layout = await heatmap.evaluate((svg) => ({ box: svg.parentElement!.getBoundingClientRect().height, cells: svg.querySelectorAll('.visx-heatmap-rect').length }));
+    expect(layout.box).toBeGreaterThan(300);
+    expect(layout.cells).toBeGreaterThan(300 * 40);
   });
 
   it('a file with errors shows the problems with row and column, and cannot be committed', async () => {

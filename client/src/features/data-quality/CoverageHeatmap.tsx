@@ -70,7 +70,8 @@ export function CoverageHeatmap({ coverage }: { coverage: Coverage }) {
   if (!coverage.assets.length) return <p className="text-sm text-ink-soft">No return series stored yet.</p>;
   return (
     <div>
-      <ParentSize debounceTime={50}>{({ width }) => (width > 0 ? <Heatmap coverage={coverage} width={width} /> : null)}</ParentSize>
+      {/* ParentSize measures in an absolutely placed box: the outer box needs the heatmap's own height. */}
+      <ParentSize debounceTime={50} parentSizeStyles={{ width: '100%', height: coverage.assets.length * ROW + MARGIN.top + MARGIN.bottom }}>{({ width }) => (width > 0 ? <Heatmap coverage={coverage} width={width} /> : null)}</ParentSize>
       <div className="mt-2 flex items-center gap-2 text-xs text-ink-soft" aria-hidden>
         <span className="inline-block h-3 w-6 border border-line" style={{ background: '#f3f1ec' }} /> no values
         <span className="inline-block h-3 w-6" style={{ background: 'linear-gradient(90deg, #f3f1ec, #0e5c61)' }} />

@@ -34,7 +34,7 @@ const QUALITY_COLUMNS: ColDef<AssetQuality>[] = [
   { field: 'annualisedVolatility', headerName: 'Volatility (ann.)', type: 'figure', valueFormatter: pct(1), minWidth: 120 },
   { field: 'min', headerName: 'Min', type: 'figure', valueFormatter: pct(2), minWidth: 90 },
   { field: 'max', headerName: 'Max', type: 'figure', valueFormatter: pct(2), minWidth: 90 },
-  { field: 'outliers', headerName: 'Outliers', type: 'figure', minWidth: 90, headerTooltip: 'Robust z-score above 3.5 (median and MAD)' },
+  { field: 'outliers', headerName: 'Outliers', type: 'figure', minWidth: 90 },
   { field: 'lastImportId', headerName: 'Last import', type: 'figure', valueFormatter: (p) => (p.value ? `#${p.value}` : '—'), minWidth: 100 },
   { field: 'lastImportAt', headerName: 'Imported', type: 'timestamp', valueFormatter: (p) => formatDateTime(p.value) },
 ];

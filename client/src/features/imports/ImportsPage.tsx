@@ -295,7 +295,7 @@ export default function ImportsPage() {
             <ProgressBar
               label="Processing"
               fraction={!busy && (answer || committed) ? 1 : processedFraction}
-              detail={`${phaseLabel} · ${formatCount(progress?.rowsRead ?? 0)} rows${!busy && (answer || committed) ? ' · finished' : ''}`}
+              detail={!busy && summary ? `finished · ${formatCount(summary.counts.rowsRead)} rows` : `${phaseLabel} · ${formatCount(progress?.rowsRead ?? 0)} rows`}
             />
           </div>
         </Card>
