@@ -120,6 +120,20 @@ describe('signing in and out', () => {
     await page.close();
   });
 
+  it('loads everything from its own origin: fonts ship in the bundle, nothing comes from a CDN', async () => {
+    const requested: string[] = [];
+    page.on('request', (request) => requested.push(request.url()));
+    await signInThroughUi(page, server.url, 'analyst');
+    await page.getByRole('heading', { level: 1 }).waitFor();
+    await page.evaluate(() => document.fonts.ready);
+    const foreign = requested.filter((url) => !url.startsWith(`${server.url}/`) && !url.startsWith('data:'));
+    expect(foreign).toEqual([]);
+    const fonts = requested.filter((url) => /\/assets\/(inter|jetbrains-mono)-.*\.woff2$/.test(url));
+    expect(fonts.some((url) => url.includes('/assets/inter-'))).toBe(true);
+    expect(await page.evaluate(() => document.fonts.check('14px Inter'))).toBe(true);
+    await page.close();
+  });
+
   it('an unknown address shows the not-found page inside the shell', async () => {
     await signInThroughUi(page, server.url, 'compliance');
     await page.goto(`${server.url}/no-such-page`);
