@@ -96,7 +96,19 @@ export function HoldingsGrid({
   const changed = useCallback(
     (event: CellValueChangedEvent<EditableHolding>) => {
       const updated = event.data;
-      onChange(rows.map((r) => (r.key === updated.key ? { ...updated, value: updated.value === null || updated.value === undefined ? null : Number(updated.value) } : r)));
+      onChange(
+        rows.map((r) =>
+          r.key === updated.key
+            ? {
+                ...updated,
+                // A new symbol's asset name is known only after saving (AG Grid edits the row object in place,
+                // so the change is read from the event).
+                assetName: event.column.getColId() === 'symbol' && event.oldValue !== event.newValue ? null : updated.assetName,
+                value: updated.value === null || updated.value === undefined || Number.isNaN(Number(updated.value)) ? null : Number(updated.value),
+              }
+            : r,
+        ),
+      );
     },
     [rows, onChange],
   );

@@ -184,7 +184,7 @@ export default function PortfolioEditorPage() {
           />
           {sumProblem ? <Alert tone="warn">{sumProblem} Saving is refused unless they sum to 100 % (within 0.01 %), or switch to market values.</Alert> : null}
           {replace.error ? (
-            <ErrorAlert error={replace.error} title="The holdings were not saved: nothing changed" showIssues={server.general.length > 0 && server.byRow.size === 0} />
+            <ErrorAlert error={replace.error} title="The holdings were not saved: nothing changed" showIssues={server.byRow.size > 0} />
           ) : null}
           {server.general.map((m) => (
             <Alert key={m} tone="breach">
