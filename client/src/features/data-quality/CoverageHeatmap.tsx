@@ -1,4 +1,4 @@
-import { useMemo } from 'react';
+import { memo, useMemo } from 'react';
 import { HeatmapRect } from '@visx/heatmap';
 import { scaleLinear } from '@visx/scale';
 import { AxisBottom, AxisLeft } from '@visx/axis';
@@ -66,7 +66,8 @@ function Heatmap({ coverage, width }: { coverage: Coverage; width: number }) {
   );
 }
 
-export function CoverageHeatmap({ coverage }: { coverage: Coverage }) {
+/** Memoised: tens of thousands of cells should not re-render when the page's other state changes. */
+export const CoverageHeatmap = memo(function CoverageHeatmap({ coverage }: { coverage: Coverage }) {
   if (!coverage.assets.length) return <p className="text-sm text-ink-soft">No return series stored yet.</p>;
   return (
     <div>
@@ -79,4 +80,4 @@ export function CoverageHeatmap({ coverage }: { coverage: Coverage }) {
       </div>
     </div>
   );
-}
+});
