@@ -70,6 +70,13 @@ const AssetFormSchema = z.object({
   assetClass: z.string().trim().max(60),
 });
 type AssetForm = z.infer<typeof AssetFormSchema>;
+const ASSET_FIELDS: { name: keyof AssetForm; label: string; code?: boolean }[] = [
+  { name: 'name', label: 'Name' },
+  { name: 'sector', label: 'Sector' },
+  { name: 'country', label: 'Country', code: true },
+  { name: 'currency', label: 'Currency', code: true },
+  { name: 'assetClass', label: 'Asset class' },
+];
 
 function AssetPanel({ assetId, canEdit, onClose }: { assetId: number; canEdit: boolean; onClose: () => void }) {
   const asset = useAsset(assetId);
@@ -86,21 +93,11 @@ function AssetPanel({ assetId, canEdit, onClose }: { assetId: number; canEdit: b
     <Card title={asset.data ? `${asset.data.symbol}: metadata` : 'Asset'} actions={<Button size="sm" variant="quiet" onClick={onClose}>Close</Button>}>
       <ErrorAlert error={asset.error} />
       <form onSubmit={save} className="grid grid-cols-1 gap-3 md:grid-cols-5" aria-label="Asset metadata">
-        <Field label="Name" error={errors.name?.message}>
-          <input className="field-input" disabled={!canEdit} {...form.register('name')} />
-        </Field>
-        <Field label="Sector" error={errors.sector?.message}>
-          <input className="field-input" disabled={!canEdit} {...form.register('sector')} />
-        </Field>
-        <Field label="Country" error={errors.country?.message}>
-          <input className="field-input font-mono" disabled={!canEdit} {...form.register('country')} />
-        </Field>
-        <Field label="Currency" error={errors.currency?.message}>
-          <input className="field-input font-mono" disabled={!canEdit} {...form.register('currency')} />
-        </Field>
-        <Field label="Asset class" error={errors.assetClass?.message}>
-          <input className="field-input" disabled={!canEdit} {...form.register('assetClass')} />
-        </Field>
+        {ASSET_FIELDS.map(({ name, label, code }) => (
+          <Field key={name} label={label} error={errors[name]?.message}>
+            <input className={`field-input${code ? ' font-mono' : ''}`} disabled={!canEdit} {...form.register(name)} />
+          </Field>
+        ))}
         {canEdit ? (
           <div className="flex items-center gap-2 md:col-span-5">
             <Button type="submit" variant="primary" disabled={update.isPending}>
