@@ -63,6 +63,18 @@ describe('importing return series in the browser', () => {
     const row = grid.locator('.ag-row', { hasText: `${prefix}BBB` }).first();
     await expect(row.textContent()).resolves.toContain('2024-01-02');
     await expect(row.textContent()).resolves.toContain('30');
+    // Edit the asset's metadata from its row.
+    await row.click();
+    const meta = page.getByRole('form', { name: 'Asset metadata' });
+    await meta.getByLabel('Sector').fill('Utilities');
+    await meta.getByLabel('Currency').fill('eur');
+    await meta.getByRole('button', { name: 'Save metadata' }).click();
+    await meta.getByText('three capital letters (ISO 4217)').waitFor();
+    await meta.getByLabel('Currency').fill('EUR');
+    await meta.getByRole('button', { name: 'Save metadata' }).click();
+    await meta.getByText('Saved.').waitFor();
+    expect(await knex('assets').where({ symbol: `${prefix}BBB` }).first()).toMatchObject({ sector: 'Utilities', currency: 'EUR' });
+
     const heatmap = page.getByRole('img', { name: /Coverage heatmap/ });
     await heatmap.waitFor();
     // The heatmap takes up room on the page (its container grows with it) and holds a cell per asset and month.
