@@ -4,11 +4,20 @@
  */
 import PgBoss from 'pg-boss';
 
-export const MODEL_FIT_QUEUE = 'model-fit';
+let queueName = process.env.LOADLINE_MODEL_FIT_QUEUE || 'model-fit';
+
+/** The queue's name: 'model-fit', or LOADLINE_MODEL_FIT_QUEUE (test files use one of their own so their workers never take each other's jobs). */
+export function modelFitQueue(): string {
+  return queueName;
+}
+
+/** Switches this process to another queue name (tests; call before anything is sent). */
+export function useModelFitQueue(name: string): void {
+  queueName = name;
+}
 
 /** Queue policy: a killed worker's job is retried (up to 2 more attempts) once it expires or the sweep fails it. */
 export const MODEL_FIT_QUEUE_OPTIONS = {
-  name: MODEL_FIT_QUEUE,
   retryLimit: 2,
   retryDelay: 1,
   expireInSeconds: 30 * 60,
@@ -37,16 +46,20 @@ export function queueSender(databaseUrl: string): Promise<PgBoss> {
   return sender;
 }
 
+const created = new Set<string>();
+
 export async function ensureModelFitQueue(boss: PgBoss): Promise<void> {
-  const existing = await boss.getQueue(MODEL_FIT_QUEUE);
-  if (!existing) {
+  const name = modelFitQueue();
+  if (created.has(name)) return;
+  if (!(await boss.getQueue(name))) {
     try {
-      await boss.createQueue(MODEL_FIT_QUEUE, MODEL_FIT_QUEUE_OPTIONS);
+      await boss.createQueue(name, { name, ...MODEL_FIT_QUEUE_OPTIONS });
     } catch (error) {
       // Two processes creating it at once: the loser sees a unique violation.
-      if (!(await boss.getQueue(MODEL_FIT_QUEUE))) throw error;
+      if (!(await boss.getQueue(name))) throw error;
     }
   }
+  created.add(name);
 }
 
 /** Stops this process's senders (tests, shutdown). */

@@ -10,7 +10,7 @@ import { conflict, forbidden, notFound, unprocessable } from '../http/errors';
 import { recordAudit } from './auditService';
 import { loadModel, type StoredModel } from './modelStore';
 import { observationCounts, resolveUniverse, windowDates } from './modelPanel';
-import { MODEL_FIT_QUEUE, queueSender } from './modelQueue';
+import { ensureModelFitQueue, modelFitQueue, queueSender } from './modelQueue';
 import type { AuthenticatedUser } from '../auth/access';
 import { communalities, loadingSubspaceAngles, varimax } from '../engine/rotation';
 import { varianceBreakdown } from '../engine/risk';
@@ -149,7 +149,8 @@ export async function createRun(databaseUrl: string, parameters: ModelRunParamet
 export async function enqueueRun(databaseUrl: string, runId: number): Promise<void> {
   try {
     const boss = await queueSender(databaseUrl);
-    const jobId = await boss.send(MODEL_FIT_QUEUE, { runId });
+    await ensureModelFitQueue(boss);
+    const jobId = await boss.send(modelFitQueue(), { runId });
     if (!jobId) throw new Error('the queue refused the job');
     await ModelRun.query().patch({ job_id: jobId }).where({ id: runId }).whereNull('job_id');
   } catch (error) {
@@ -188,7 +189,7 @@ export async function cancelRun(databaseUrl: string, id: number, user: Authentic
   });
   if (run.status === 'queued' && run.job_id) {
     const boss = await queueSender(databaseUrl).catch(() => null);
-    await boss?.cancel(MODEL_FIT_QUEUE, run.job_id).catch(() => undefined);
+    await boss?.cancel(modelFitQueue(), run.job_id).catch(() => undefined);
   }
   return getRun(id);
 }

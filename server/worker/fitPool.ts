@@ -13,6 +13,9 @@ export class FitCancelled extends Error {
   }
 }
 
+/** The thread went away without an answer (worker shutting down, out of memory): an infrastructure failure, retried. */
+export class FitThreadStopped extends Error {}
+
 export interface FitHandle {
   result: Promise<FitComputation>;
   /** Stops the fit now; `result` rejects with FitCancelled(reason). */
@@ -93,7 +96,7 @@ export function runFit(values: Float64Array, observations: number, assets: numbe
         if (settled) return;
         cleanup();
         thread = null;
-        reject(new Error(`the fit thread stopped (exit code ${code})`));
+        reject(new FitThreadStopped(`the fit thread stopped (exit code ${code})`));
       };
       cancel = (reason: string) => {
         if (settled) return;

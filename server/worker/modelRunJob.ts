@@ -13,8 +13,8 @@ import { ModelRun } from '../models/ModelRun';
 import { HttpError } from '../http/errors';
 import { loadPanel } from '../services/modelPanel';
 import { insertModelResult, panelSha256 } from '../services/modelStore';
-import { MODEL_FIT_QUEUE, MODEL_FIT_QUEUE_OPTIONS, ensureModelFitQueue, type ModelFitJob } from '../services/modelQueue';
-import { FitCancelled, runFit, warmFitThread } from './fitPool';
+import { MODEL_FIT_QUEUE_OPTIONS, ensureModelFitQueue, modelFitQueue, type ModelFitJob } from '../services/modelQueue';
+import { FitCancelled, FitThreadStopped, runFit, warmFitThread } from './fitPool';
 import type { FitProgress } from '../engine/types';
 import { STAGES } from './fitCompute';
 
@@ -154,6 +154,12 @@ export async function runModelFitJob(job: PgBoss.Job<ModelFitJob>, options: Mode
   } catch (error) {
     if (error instanceof FitCancelled) {
       await markFinished(runId, attempts, 'cancelled', error.message);
+    } else if (error instanceof FitThreadStopped) {
+      // The worker is shutting down (or its thread died): back to the queue, and let pg-boss retry the job elsewhere.
+      await db()('model_runs')
+        .where({ id: runId, attempts, status: 'running' })
+        .update({ status: 'queued', progress_stage: 'waiting for a worker (previous worker stopped)', progress_fraction: 0, error: `A worker stopped during attempt ${attempts}; retrying`, updated_at: db().fn.now() });
+      throw error;
     } else {
       const reason = error instanceof HttpError ? error.message : `The fit failed: ${(error as Error).message}`;
       options.log?.(`[model-fit] run ${runId} failed: ${reason}`);
@@ -171,33 +177,44 @@ async function markFinished(runId: number, attempts: number, status: 'failed' | 
     .update({ status, error: reason, finished_at: db().fn.now(), updated_at: db().fn.now() });
 }
 
+/** The pg-boss job of a run (any queue, live or archived), or null when pg-boss no longer has it. */
+async function jobOf(jobId: string | null): Promise<{ id: string; name: string; state: string } | null> {
+  if (!jobId) return null;
+  const rows = await db().raw(
+    `SELECT id::text, name, state::text FROM pgboss.job WHERE id = ?::uuid UNION ALL SELECT id::text, name, state::text FROM pgboss.archive WHERE id = ?::uuid LIMIT 1`,
+    [jobId, jobId],
+  );
+  return rows.rows[0] ?? null;
+}
+
 /**
- * Finds runs left behind by dead processes:
+ * Finds runs left behind by dead processes (only runs of this worker's queue; a job pg-boss no longer has counts too):
  *  - running with a stale heartbeat: fail its pg-boss job (pg-boss then retries it while retries remain) and put the
- *    run back to queued; once its attempts are used up, fail the run with the reason;
+ *    run back to queued; once its attempts are used up, fail the run with the reason; cancelled when a cancel was asked;
  *  - queued with no job (the web server stopped between storing the run and sending the job): send it now;
- *  - queued or running whose job pg-boss no longer holds as pending: fail the run.
+ *  - queued whose job pg-boss holds as failed, cancelled or completed (or no longer holds): fail the run.
  */
 export async function sweepModelRuns(boss: PgBoss, staleSeconds: number, log: (m: string) => void = () => {}): Promise<number> {
   let touched = 0;
+  const queue = modelFitQueue();
   const maxAttempts = MODEL_FIT_QUEUE_OPTIONS.retryLimit + 1;
   const stale: ModelRun[] = await ModelRun.query().where('status', 'running').where('heartbeat_at', '<', db().raw(`now() - make_interval(secs => ?)`, [staleSeconds]));
   for (const run of stale) {
+    const job = await jobOf(run.job_id);
+    if (job && job.name !== queue) continue; // another queue's workers look after it
     if (run.cancel_requested_at) {
       // Its worker died after a cancel request: nothing to retry.
       await db()('model_runs').where({ id: run.id, attempts: run.attempts, status: 'running' }).update({ status: 'cancelled', finished_at: db().fn.now(), updated_at: db().fn.now() });
-      if (run.job_id) await boss.cancel(MODEL_FIT_QUEUE, run.job_id).catch(() => undefined);
+      if (job?.state === 'active') await boss.cancel(queue, job.id).catch(() => undefined);
       touched++;
       continue;
     }
-    const job = run.job_id ? await boss.getJobById(MODEL_FIT_QUEUE, run.job_id).catch(() => null) : null;
-    const retriesLeft = run.attempts < maxAttempts && job !== null;
-    if (retriesLeft) {
+    if (run.attempts < maxAttempts && job) {
       const moved = await db()('model_runs').where({ id: run.id, attempts: run.attempts, status: 'running' }).update({ status: 'queued', progress_stage: 'waiting for a worker (previous worker stopped)', progress_fraction: 0, error: `A worker stopped during attempt ${run.attempts}; retrying`, updated_at: db().fn.now() });
-      if (moved && job && job.state === 'active') await boss.fail(MODEL_FIT_QUEUE, job.id, { reason: 'worker stopped responding' }).catch(() => undefined);
-      if (moved && job && (job.state === 'failed' || job.state === 'completed' || job.state === 'cancelled')) {
+      if (moved && job.state === 'active') await boss.fail(queue, job.id, { reason: 'worker stopped responding' }).catch(() => undefined);
+      if (moved && (job.state === 'failed' || job.state === 'completed' || job.state === 'cancelled')) {
         // pg-boss already gave up on the job: queue a fresh one for the next attempt.
-        const id = await boss.send(MODEL_FIT_QUEUE, { runId: run.id });
+        const id = await boss.send(queue, { runId: run.id });
         if (id) await db()('model_runs').where({ id: run.id }).update({ job_id: id });
       }
       if (moved) log(`[model-fit] run ${run.id}: worker stopped responding, retrying`);
@@ -205,20 +222,21 @@ export async function sweepModelRuns(boss: PgBoss, staleSeconds: number, log: (m
       await db()('model_runs')
         .where({ id: run.id, attempts: run.attempts, status: 'running' })
         .update({ status: 'failed', error: `The worker stopped responding during the fit (${run.attempts} attempt${run.attempts === 1 ? '' : 's'}); giving up`, finished_at: db().fn.now(), updated_at: db().fn.now() });
-      if (job?.state === 'active') await boss.fail(MODEL_FIT_QUEUE, job.id, { reason: 'gave up' }).catch(() => undefined);
+      if (job?.state === 'active') await boss.fail(queue, job.id, { reason: 'gave up' }).catch(() => undefined);
       log(`[model-fit] run ${run.id}: worker stopped responding, failed`);
     }
     touched++;
   }
   const orphans: ModelRun[] = await ModelRun.query().where('status', 'queued').whereNull('job_id').where('created_at', '<', db().raw(`now() - interval '30 seconds'`));
   for (const run of orphans) {
-    const id = await boss.send(MODEL_FIT_QUEUE, { runId: run.id });
+    const id = await boss.send(queue, { runId: run.id });
     if (id) await db()('model_runs').where({ id: run.id }).whereNull('job_id').update({ job_id: id });
     touched++;
   }
   const queued: ModelRun[] = await ModelRun.query().where('status', 'queued').whereNotNull('job_id').where('updated_at', '<', db().raw(`now() - make_interval(secs => ?)`, [staleSeconds]));
   for (const run of queued) {
-    const job = await boss.getJobById(MODEL_FIT_QUEUE, run.job_id!).catch(() => null);
+    const job = await jobOf(run.job_id);
+    if (job && job.name !== queue) continue;
     if (!job || job.state === 'failed' || job.state === 'cancelled' || job.state === 'completed') {
       await db()('model_runs').where({ id: run.id, status: 'queued' }).update({ status: 'failed', error: run.error ?? 'The queue no longer holds this run’s job', finished_at: db().fn.now(), updated_at: db().fn.now() });
       touched++;
@@ -232,7 +250,7 @@ export async function registerModelFitJobs(boss: PgBoss, options: ModelJobOption
   await ensureModelFitQueue(boss);
   await warmFitThread();
   const log = options.log ?? ((m: string) => console.log(m));
-  await boss.work<ModelFitJob>(MODEL_FIT_QUEUE, { batchSize: 1, pollingIntervalSeconds: options.pollingIntervalSeconds ?? 0.5 }, async (jobs) => {
+  await boss.work<ModelFitJob>(modelFitQueue(), { batchSize: 1, pollingIntervalSeconds: options.pollingIntervalSeconds ?? 0.5 }, async (jobs) => {
     for (const job of jobs) await runModelFitJob(job, { ...options, log });
   });
   const staleSeconds = options.staleSeconds ?? 30;

@@ -8,7 +8,7 @@ import { createBoss } from '../../server/worker/boss';
 import { bindModels } from '../../server/db/knex';
 import { registerModelFitJobs } from '../../server/worker/modelRunJob';
 import { stopFitThread } from '../../server/worker/fitPool';
-import { MODEL_FIT_QUEUE, stopQueueSenders } from '../../server/services/modelQueue';
+import { modelFitQueue, stopQueueSenders, useModelFitQueue } from '../../server/services/modelQueue';
 import { loadModel, panelSha256 } from '../../server/services/modelStore';
 import { plantedPanel } from '../../server/engine/planted';
 import { paths } from '../../server/config';
@@ -18,6 +18,8 @@ import { paths } from '../../server/config';
  * in this process (as the worker process does), and for the crash test a separate worker process that is killed.
  * The returns are invented planted-factor panels inserted under unique symbols.
  */
+// This file's own queue: workers of other test files running at the same time never take its jobs.
+useModelFitQueue(unique('model-fit-api-'));
 const ctx = testContext();
 let boss: PgBoss;
 let stopSweep: () => void = () => {};
@@ -370,14 +372,14 @@ describe('model runs with a worker', () => {
 
   it('is never left running when its worker process is killed mid-fit', async () => {
     // Stop this process's worker so that the separate worker process takes the job.
-    await boss.offWork(MODEL_FIT_QUEUE);
+    await boss.offWork(modelFitQueue());
     const t = 400;
     const n = 300;
     const planted = plantedPanel({ assets: n, observations: t, factors: 6, seed: 51, noise: 'student-t' });
     const symbols = await insertPanel(ctx.knex, unique('MK'), planted.panel.values, t, n);
     let child: ChildProcess | null = null;
     try {
-      child = spawn(process.execPath, ['--import', 'tsx', 'server/worker/main.ts'], { cwd: paths.repoRoot, env: { ...process.env, DATABASE_URL: ctx.config.databaseUrl }, stdio: 'ignore' });
+      child = spawn(process.execPath, ['--import', 'tsx', 'server/worker/main.ts'], { cwd: paths.repoRoot, env: { ...process.env, DATABASE_URL: ctx.config.databaseUrl, LOADLINE_MODEL_FIT_QUEUE: modelFitQueue() }, stdio: 'ignore' });
       const created = await request(ctx.app)
         .post('/api/model-runs')
         .set('Authorization', `Bearer ${tokens.analyst}`)
@@ -392,7 +394,7 @@ describe('model runs with a worker', () => {
       expect(killedRow.attempts).toBe(1);
 
       // This process's worker (sweep: heartbeat older than 3 s) notices, pg-boss retries, and the run completes.
-      await boss.work(MODEL_FIT_QUEUE, { batchSize: 1, pollingIntervalSeconds: 0.5 }, async (jobs) => {
+      await boss.work(modelFitQueue(), { batchSize: 1, pollingIntervalSeconds: 0.5 }, async (jobs) => {
         const { runModelFitJob } = await import('../../server/worker/modelRunJob');
         for (const job of jobs) await runModelFitJob(job as never, { heartbeatMs: 250 });
       });
