@@ -25,7 +25,7 @@ export function demoUser(role: Role) {
 }
 
 /** Signs in a demo user (or the given credentials) and answers its Bearer token. */
-export async function signIn(app: Express.Application | ReturnType<typeof createApp>, who: Role | { email: string; password: string }): Promise<string> {
+export async function signIn(app: ReturnType<typeof createApp>, who: Role | { email: string; password: string }): Promise<string> {
   const creds = typeof who === 'string' ? demoUser(who) : who;
   const res = await request(app).post('/api/auth/sign-in').send({ email: creds.email, password: creds.password });
   if (res.status !== 200) throw new Error(`sign-in of ${creds.email} failed: ${res.status} ${JSON.stringify(res.body)}`);
