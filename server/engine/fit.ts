@@ -8,7 +8,7 @@ import { denseOperator, topEigenpairs } from './linalg/eigen';
 import { ledoitWolf } from './ledoitWolf';
 import { modelLogLikelihood } from './logLikelihood';
 import { fitWithMissing } from './missing';
-import { fitPpca } from './ppca';
+import { fitPpca, topSpectrum } from './ppca';
 import { sampleCovariance } from './sampleCovariance';
 import { buildScatter, panelHasMissing } from './scatter';
 import type { CovarianceModel, FitControl, MeanHandling, ReturnsPanel, Weighting } from './types';
@@ -186,10 +186,9 @@ export function fitModel(input: ReturnsPanel, options: FitOptions, control: FitC
 
   if (isFactor) {
     const scatter = buildScatter(panel, { weighting: options.weighting, mean: meanHandling, form: method === 'ppca' ? 'data' : 'auto', blockWidth: factors });
-    // FA only needs PPCA as a warm start: a looser eigen tolerance on the scatter's own operator is enough.
-    const ppca = method === 'ppca' ? fitPpca(scatter, factors, spectrumSize) : fitPpca(scatter, factors, spectrumSize, { tolerance: 1e-7, direct: true });
-    const spectrum = Array.from(ppca.spectrum);
     if (method === 'ppca') {
+      const ppca = fitPpca(scatter, factors, spectrumSize);
+      const spectrum = Array.from(ppca.spectrum);
       const psi = new Float64Array(n).fill(ppca.noiseVariance);
       const model: CovarianceModel = { kind: 'factor', method, assets: n, factors, mean: scatter.mean, loadings: ppca.loadings, specificVariance: psi };
       return {
@@ -197,7 +196,9 @@ export function fitModel(input: ReturnsPanel, options: FitOptions, control: FitC
         diagnostics: { ...base, iterations: 0, evaluations: 0, converged: true, logLikelihood: ppca.logLikelihood, trace: [ppca.logLikelihood], heywood: new Array(n).fill(false), spectrum, noiseVariance: ppca.noiseVariance, flags },
       };
     }
-    const start = options.start ?? { loadings: ppca.loadings, specificVariance: new Float64Array(n).fill(ppca.noiseVariance) };
+    // Diagnostics only: a loose residual tolerance still gives eigenvalues to about 1e-8 (errors are quadratic).
+    const spectrum = Array.from(topSpectrum(scatter, spectrumSize, 1e-4, true).values);
+    const start = options.start;
     const fa = fitFactorAnalysis(scatter, factors, { tolerance: options.tolerance, parameterTolerance: options.parameterTolerance, maxEvaluations: options.maxEvaluations, floorShare: options.floorShare, start }, control);
     const model: CovarianceModel = { kind: 'factor', method, assets: n, factors, mean: scatter.mean, loadings: fa.loadings, specificVariance: fa.specificVariance };
     const heyCount = fa.heywood.filter(Boolean).length;
