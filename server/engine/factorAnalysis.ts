@@ -1,15 +1,21 @@
 /**
- * Maximum-likelihood factor analysis, Σ = W Wᵀ + diag(Ψ), by EM (Rubin & Thayer 1982, "EM algorithms for ML
- * factor analysis", Psychometrika 47) accelerated with SQUAREM (Varadhan & Roland 2008, "Simple and globally
- * convergent methods for accelerating the convergence of any EM algorithm", Scand. J. Statist. 35, scheme S3 with
- * the monotone safeguard), started from the closed-form PPCA fit.
+ * Maximum-likelihood factor analysis, Σ = W Wᵀ + diag(Ψ), to the maximum of the Gaussian likelihood.
+ *
+ * Default algorithm ('profile'): Jöreskog's (1967) iteration over Ψ with the loadings profiled out exactly at every
+ * step, accelerated by SQUAREM — see faProfile.ts. It starts from Ψ = diag(S)/2 (or a given warm start).
+ *
+ * Alternative ('em'): EM (Rubin & Thayer 1982, "EM algorithms for ML factor analysis", Psychometrika 47)
+ * accelerated with SQUAREM (Varadhan & Roland 2008, "Simple and globally convergent methods for accelerating the
+ * convergence of any EM algorithm", Scand. J. Statist. 35, scheme S3 with the monotone safeguard), started from
+ * the closed-form PPCA fit; used to cross-check the default and as the basis of the missing-data fit (missing.ts).
  *
  * One EM step from (W, Ψ) needs S applied to the thin block B = Ψ⁻¹W once, and O(N L²) more:
  *   M = I + Wᵀ Ψ⁻¹ W,  E[zzᵀ] = M⁻¹ + M⁻¹ Bᵀ S B M⁻¹,  C = S B M⁻¹,
  *   W' = C E[zzᵀ]⁻¹,  Ψ'ᵢ = Sᵢᵢ − (W' Cᵀ)ᵢᵢ  (floored).
  * The same pieces give the log-likelihood at (W, Ψ) for free (Woodbury, logLikelihood.ts).
  * Heywood cases: Ψᵢ held at its floor (default 0.005 · Sᵢᵢ, the lower bound R's factanal uses on the correlation
- * scale) are flagged per asset. Deterministic: fixed operation order, no randomness beyond a seeded start.
+ * scale) are flagged per asset. Deterministic: fixed operation order, seeded Krylov starts, and the worker pool
+ * returns bit-identical products.
  */
 import { cholesky, choleskyLogDet } from './linalg/cholesky';
 import { symmetricEigen } from './linalg/eigen';
@@ -29,7 +35,7 @@ export interface FactorAnalysisOptions {
    * (1e-11, 1e-5) cut evaluations by about a third on the benchmark panels and stop within about 1e-3 nats
    * (1e-9 relative) of the optimum, but then R factanal's optimum can be better in the 8th digit. */
   parameterTolerance?: number;
-  /** Budget in EM-step evaluations (default 20000). */
+  /** Budget in step evaluations (EM steps, or profile steps = one top-L eigensolve each; default 20000). */
   maxEvaluations?: number;
   /** Ψᵢ ≥ floorShare · Sᵢᵢ (default 0.005). */
   floorShare?: number;

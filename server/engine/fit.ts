@@ -39,6 +39,8 @@ export interface FitOptions {
   maxEvaluations?: number;
   /** FA: Ψᵢ ≥ floorShare · Sᵢᵢ (default 0.005). */
   floorShare?: number;
+  /** FA algorithm: 'profile' (default, Jöreskog 1967 with exact loadings) or 'em' (EM + SQUAREM). */
+  algorithm?: 'profile' | 'em';
   /** FA warm start (e.g. the previous window), N × L loadings and N specific variances. */
   start?: { loadings: Float64Array; specificVariance: Float64Array };
   /** Compute the model's log-likelihood on the panel for dense estimators (default true; O(N³)). */
@@ -51,7 +53,8 @@ export interface FitDiagnostics {
   observations: number;
   assets: number;
   iterations: number;
-  /** EM-step evaluations (each one application of S), 0 for closed forms. */
+  /** Step evaluations: EM steps (one application of S each) or FA profile steps (one warm-started top-L
+   * eigensolve each); 0 for closed forms. */
   evaluations: number;
   converged: boolean;
   /** Total log-likelihood at the fitted mean and covariance; null when Σ is singular. */
@@ -199,7 +202,7 @@ export function fitModel(input: ReturnsPanel, options: FitOptions, control: FitC
     // Diagnostics only: a loose residual tolerance still gives eigenvalues to about 1e-8 (errors are quadratic).
     const spectrum = Array.from(topSpectrum(scatter, spectrumSize, 1e-4, true).values);
     const start = options.start;
-    const fa = fitFactorAnalysis(scatter, factors, { tolerance: options.tolerance, parameterTolerance: options.parameterTolerance, maxEvaluations: options.maxEvaluations, floorShare: options.floorShare, start }, control);
+    const fa = fitFactorAnalysis(scatter, factors, { algorithm: options.algorithm, tolerance: options.tolerance, parameterTolerance: options.parameterTolerance, maxEvaluations: options.maxEvaluations, floorShare: options.floorShare, start }, control);
     const model: CovarianceModel = { kind: 'factor', method, assets: n, factors, mean: scatter.mean, loadings: fa.loadings, specificVariance: fa.specificVariance };
     const heyCount = fa.heywood.filter(Boolean).length;
     if (heyCount > 0) flags.push(`heywood-cases:${heyCount}`);

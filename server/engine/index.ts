@@ -10,6 +10,7 @@ export { ledoitWolf, type LedoitWolfResult } from './ledoitWolf';
 export { fitPpca, topSpectrum, type PpcaResult, type Spectrum } from './ppca';
 export { fitFactorAnalysis, type FactorAnalysisOptions, type FactorAnalysisResult } from './factorAnalysis';
 export { fitWithMissing, type MissingFitOptions, type MissingFitResult } from './missing';
+export { fitProfileFactorAnalysis, type ProfileFitResult } from './faProfile';
 export {
   LOG_2PI,
   factorModelLogLikelihood,
