@@ -113,7 +113,7 @@ async function scanAndStage(
   const checkReturns = options.valueKind !== 'price';
   let chunk = '';
 
-  /** One value of one row: checks it, records its date, and stages it. Answers false on an error. */
+  /** One value of one row: checks it, records its date, and stages it (errors go to the log). */
   const takeValue = (row: number, day: number, sym: number, text: string, column: string): void => {
     const parsed = parseNumber(text);
     if (parsed === null) {
@@ -267,6 +267,7 @@ export async function runImport(knex: Knex, request: ImportRequest): Promise<Imp
   };
   const trx = await knex.transaction();
   let committed = false;
+  let streamedMerge: StreamedMerge | null = null;
   let summary: ImportSummary;
   let status = 200;
   try {
@@ -290,7 +291,7 @@ export async function runImport(knex: Knex, request: ImportRequest): Promise<Imp
       },
       request.mode === 'commit' && options.valueKind !== 'price'
         ? (scanned) => {
-            streamed = new StreamedMerge({
+            streamedMerge = streamed = new StreamedMerge({
               connection, policy: options.overlap, batchId: batchId!, symbols: scanned.symbols, days: scanned.days,
               errors: () => log.errors, emit: (p) => log.add(p), onChunk: lap,
             });
@@ -449,8 +450,10 @@ export async function runImport(knex: Knex, request: ImportRequest): Promise<Imp
     }
   } catch (error) {
     clearInterval(timer);
-    reportProgress(request.ref, request.user.id, { phase: 'failed', bytesRead: progressBytes, totalBytes: request.fileSize, rowsRead: progressRows });
+    // A chunk still being stored finishes (or fails) before the rollback, so nothing runs after it.
+    await (streamedMerge as StreamedMerge | null)?.stop();
     if (!committed) await trx.rollback().catch(() => undefined);
+    reportProgress(request.ref, request.user.id, { phase: 'failed', bytesRead: progressBytes, totalBytes: request.fileSize, rowsRead: progressRows });
     await log.close().catch(() => undefined);
     throw error;
   }

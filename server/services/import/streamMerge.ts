@@ -36,12 +36,24 @@ export class StreamedMerge {
   private staged: boolean[] = [];
   private known = false;
   private overlapListed = 0;
+  private chunks: ChunkSink | null = null;
+  private stopped = false;
 
   constructor(private readonly ctx: StreamedMergeContext) {}
 
   /** The sink for the scan's staging lines. */
   sink(): Writable {
-    return new ChunkSink((chunk) => this.storeChunk(chunk), CHUNK_BYTES);
+    this.chunks = new ChunkSink((chunk) => this.storeChunk(chunk), CHUNK_BYTES);
+    return this.chunks;
+  }
+
+  /**
+   * Stops storing and waits for a chunk in flight: the caller rolls back only then, so no statement of this
+   * import runs on the connection after the rollback.
+   */
+  async stop(): Promise<void> {
+    this.stopped = true;
+    await this.chunks?.idle();
   }
 
   /** Symbols seen with at least one value and not staged yet go into import_symbols; new ones become assets. */
@@ -63,10 +75,14 @@ export class StreamedMerge {
 
   private async storeChunk(chunk: Buffer): Promise<void> {
     const { connection } = this.ctx;
-    if (this.ctx.errors() > 0) return; // the transaction will roll back: stop storing
+    // An error in the file, or an abort: the transaction will roll back, so store nothing more.
+    const halted = () => this.stopped || this.ctx.errors() > 0;
+    if (halted()) return;
     await connection.query('TRUNCATE import_staging');
     await pipeline(Readable.from([chunk]), stagingCopyStream(connection));
+    if (halted()) return;
     await this.stageSymbols();
+    if (halted()) return;
     const source = sourceQuery('simple-decimal');
     if (this.known) {
       // Stored data is involved: give the planner the chunk's statistics (index probes, not a scan of the main table).
@@ -125,6 +141,11 @@ class ChunkSink extends Writable {
     this.bytes += piece.length;
     if (this.bytes < this.chunkBytes) return done();
     this.dispatch().then(() => done(), done);
+  }
+
+  /** Settles when no chunk is being stored (whatever the outcome). */
+  idle(): Promise<void> {
+    return this.storing.catch(() => undefined);
   }
 
   _final(done: (error?: Error | null) => void): void {
