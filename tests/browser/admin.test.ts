@@ -1,10 +1,10 @@
-import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
+import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Knex } from 'knex';
 import type { BrowserContext, Page } from 'playwright-core';
-import { launchBrowser, screenshotOnFailure, signInThroughUi, startServer, warmUp } from '../helpers/browser';
+import { collectPageErrors, launchBrowser, screenshotOnFailure, signInThroughUi, startServer, warmUp } from '../helpers/browser';
 import { unique } from '../helpers/app';
 import { loadConfig } from '../../server/config';
 import { createKnex } from '../../server/db/knex';
@@ -17,6 +17,7 @@ let sink: MailSink;
 let sinkKnex: Knex;
 let context: BrowserContext;
 let page: Page;
+let pageErrors: string[] = [];
 
 beforeAll(async () => {
   const config = loadConfig();
@@ -37,6 +38,11 @@ beforeEach(async () => {
   await context.clearCookies();
   page = await context.newPage();
   screenshotOnFailure(page, 'admin');
+  pageErrors = collectPageErrors(page);
+});
+afterEach(() => {
+  // No uncaught exception or console error (AG Grid reports missing modules there) on the admin pages.
+  expect(pageErrors).toEqual([]);
 });
 
 async function signInAs(email: string, password: string) {
@@ -128,6 +134,8 @@ describe('users, invitations and the outbox', () => {
   it('an admin changes the role and deactivates; the deactivated user cannot sign in', async () => {
     await signInThroughUi(page, server.url, 'admin');
     await page.getByRole('gridcell', { name: email }).click();
+    // The clicked row shows as selected and the panel opens for that user.
+    await page.locator('.ag-row-selected').getByText(email).waitFor();
     await page.getByLabel('Role').selectOption('compliance');
     await page.getByRole('button', { name: 'Change role' }).click();
     await page.getByText(`${name} is now compliance.`).waitFor();
@@ -148,6 +156,8 @@ describe('users, invitations and the outbox', () => {
   it('forgot password: the page confirms and a reset mail reaches the outbox', async () => {
     await page.goto(`${server.url}/sign-in`);
     await page.getByRole('link', { name: 'Forgot your password?' }).click();
+    // The sign-in form stays on screen until the next page's code has loaded.
+    await page.getByRole('heading', { name: 'Reset your password' }).waitFor();
     await page.getByLabel('E-mail').fill('analyst2@quillfield.example');
     await page.getByRole('button', { name: 'Send the link' }).click();
     await page.getByText('Check your mail').waitFor();

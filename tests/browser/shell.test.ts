@@ -2,7 +2,7 @@ import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it } from
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
-import { launchBrowser, screenshotOnFailure, signInThroughUi, startServer, warmUp } from '../helpers/browser';
+import { collectPageErrors, launchBrowser, screenshotOnFailure, signInThroughUi, startServer, warmUp } from '../helpers/browser';
 import { demoUser } from '../helpers/app';
 import type { Role } from '../../shared/schemas/common';
 
@@ -35,11 +35,10 @@ beforeEach(async () => {
   await context.clearCookies();
   page = await context.newPage();
   screenshotOnFailure(page, 'shell');
-  pageErrors = [];
-  page.on('pageerror', (error) => pageErrors.push(error.message));
+  pageErrors = collectPageErrors(page);
 });
 afterEach(() => {
-  // No uncaught exception in the page during any of these flows.
+  // No uncaught exception or console error in the page during any of these flows.
   expect(pageErrors).toEqual([]);
 });
 

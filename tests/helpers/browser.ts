@@ -74,3 +74,16 @@ export function screenshotOnFailure(page: Page, label: string): void {
     console.error(`[browser] failed at ${page.url()}; screenshot ${file}`);
   });
 }
+
+/**
+ * Collects uncaught exceptions and console errors of a page (AG Grid reports a missing module that way), leaving out
+ * the browser's own "Failed to load resource" lines for HTTP errors the app handles (a 401 before sign-in, say).
+ */
+export function collectPageErrors(page: Page): string[] {
+  const errors: string[] = [];
+  page.on('pageerror', (error) => errors.push(error.message));
+  page.on('console', (message) => {
+    if (message.type() === 'error' && !message.text().startsWith('Failed to load resource')) errors.push(message.text());
+  });
+  return errors;
+}

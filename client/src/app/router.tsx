@@ -4,6 +4,7 @@ import { RouteError } from './RouteError';
 import { NotFoundPage } from './NotFoundPage';
 import { RoleHomeRedirect } from './RoleHomeRedirect';
 import { publicRoutes, shellRoutes } from './routes';
+import { FullPageMessage } from './Shell';
 
 /**
  * The data router. Public pages (sign-in, password links) sit outside the shell; everything else renders inside it,
@@ -12,6 +13,8 @@ import { publicRoutes, shellRoutes } from './routes';
 export const router = createBrowserRouter([
   {
     errorElement: <RouteError />,
+    // Shown while the first page's code loads (every page is its own lazily loaded chunk).
+    hydrateFallbackElement: <FullPageMessage>Loading…</FullPageMessage>,
     children: [
       ...publicRoutes,
       {

@@ -11,6 +11,7 @@ import {
   CellStyleModule,
   RowStyleModule,
   RowSelectionModule,
+  RowApiModule,
   ValidationModule,
   type RowSelectionOptions,
   themeQuartz,
@@ -34,6 +35,7 @@ ModuleRegistry.registerModules([
   CellStyleModule,
   RowStyleModule,
   RowSelectionModule,
+  RowApiModule, // getRowNode, to keep the selection in step
   ...(import.meta.env.DEV ? [ValidationModule] : []),
 ]);
 

@@ -55,8 +55,8 @@ export function UserPanel({ user, isSelf, onClose }: { user: UserSummary; isSelf
         {update.isError ? <ErrorAlert error={update.error} /> : null}
         {resend.isError ? <ErrorAlert error={resend.error} /> : null}
 
-        <div className="flex items-end gap-2">
-          <Field label="Role" className="flex-1">
+        <div className="flex flex-col gap-2">
+          <Field label="Role">
             <select className="field-input" value={role} onChange={(event) => setRole(event.target.value as Role)} disabled={isSelf || !user.active}>
               {ROLES.map((option) => (
                 <option key={option} value={option}>
