@@ -265,11 +265,16 @@ describe('bad input: a clear 422 naming row and column, nothing stored', () => {
 describe('roles', () => {
   it('portfolio managers and compliance may read but not import', async () => {
     const p = prefix();
-    const file = fixtureCopy('long-simple-decimal.csv', p);
-    expect((await upload(ctx.app, pm, file, { mode: 'commit' })).status).toBe(403);
-    expect((await upload(ctx.app, compliance, file, { mode: 'commit' })).status).toBe(403);
+    // Refused before the body is read (so only the form fields are sent: a file part could meet a closed socket).
+    const attempt = (token?: string) => {
+      const req = request(ctx.app).post('/api/imports');
+      if (token) req.set('Authorization', `Bearer ${token}`);
+      return req.field('mode', 'commit');
+    };
+    expect((await attempt(pm)).status).toBe(403);
+    expect((await attempt(compliance)).status).toBe(403);
+    expect((await attempt()).status).toBe(401);
     expect((await request(ctx.app).get('/api/imports').set('Authorization', `Bearer ${pm}`)).status).toBe(200);
-    expect((await request(ctx.app).post('/api/imports').attach('file', file)).status).toBe(401);
     expect(await storedFor(ctx.knex, p)).toEqual({ assets: 0, observations: 0, revisions: 0 });
   });
 
