@@ -264,7 +264,6 @@ describe('bad input: a clear 422 naming row and column, nothing stored', () => {
 
 describe('roles', () => {
   it('portfolio managers and compliance may read but not import', async () => {
-    const p = prefix();
     // Refused before the body is read (so only the form fields are sent: a file part could meet a closed socket).
     const attempt = (token?: string) => {
       const req = request(ctx.app).post('/api/imports');
@@ -275,7 +274,6 @@ describe('roles', () => {
     expect((await attempt(compliance)).status).toBe(403);
     expect((await attempt()).status).toBe(401);
     expect((await request(ctx.app).get('/api/imports').set('Authorization', `Bearer ${pm}`)).status).toBe(200);
-    expect(await storedFor(ctx.knex, p)).toEqual({ assets: 0, observations: 0, revisions: 0 });
   });
 
   it('processing progress is readable by the uploader under the ref it chose', async () => {
