@@ -1,52 +1,39 @@
-import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Knex } from 'knex';
 import type { BrowserContext, Page } from 'playwright-core';
-import { collectPageErrors, launchBrowser, screenshotOnFailure, signInThroughUi, startServer, warmUp } from '../helpers/browser';
+import { openTestPage, signInThroughUi, startBrowserSuite } from '../helpers/browser';
 import { unique } from '../helpers/app';
 import { loadConfig } from '../../server/config';
 import { createKnex } from '../../server/db/knex';
 import { startMailSink, type MailSink } from '../../server/mail/sink';
 
 // The admin pages end to end: a real mail sink on a free port receives the invitation the browser triggers.
-let server: Awaited<ReturnType<typeof startServer>>;
-let browser: Awaited<ReturnType<typeof launchBrowser>>;
+let suite: Awaited<ReturnType<typeof startBrowserSuite>>;
 let sink: MailSink;
 let sinkKnex: Knex;
 let context: BrowserContext;
 let page: Page;
-let pageErrors: string[] = [];
 
 beforeAll(async () => {
-  const config = loadConfig();
-  sinkKnex = createKnex(config.databaseUrl, { max: 2 });
+  sinkKnex = createKnex(loadConfig().databaseUrl, { max: 2 });
   sink = await startMailSink({ port: 0, knex: sinkKnex });
-  server = await startServer({ smtpUrl: `smtp://127.0.0.1:${sink.port}` });
-  browser = await launchBrowser();
-  context = browser.context;
-  await warmUp(context, server.url);
+  suite = await startBrowserSuite({ smtpUrl: `smtp://127.0.0.1:${sink.port}` });
+  context = suite.context;
 });
 afterAll(async () => {
-  await browser?.close();
-  await server?.close();
+  await suite?.close();
   await sink?.close();
   await sinkKnex?.destroy();
 });
 beforeEach(async () => {
-  await context.clearCookies();
-  page = await context.newPage();
-  screenshotOnFailure(page, 'admin');
-  pageErrors = collectPageErrors(page);
-});
-afterEach(() => {
-  // No uncaught exception or console error (AG Grid reports missing modules there) on the admin pages.
-  expect(pageErrors).toEqual([]);
+  page = await openTestPage(context, 'admin');
 });
 
 async function signInAs(email: string, password: string) {
-  await page.goto(`${server.url}/sign-in`);
+  await page.goto(`${suite.url}/sign-in`);
   await page.getByLabel('E-mail').fill(email);
   await page.getByLabel('Password').fill(password);
   await page.getByRole('button', { name: 'Sign in' }).click();
@@ -59,7 +46,7 @@ describe('users, invitations and the outbox', () => {
   const password = 'another-long-pass';
 
   it('an admin invites a user, who follows the mailed link, sets a password and signs in', async () => {
-    await signInThroughUi(page, server.url, 'admin');
+    await signInThroughUi(page, suite.url, 'admin');
     await page.waitForURL((url) => url.pathname === '/users');
     await page.getByRole('gridcell', { name: 'compliance@quillfield.example' }).waitFor();
 
@@ -93,7 +80,7 @@ describe('users, invitations and the outbox', () => {
     expect(link.pathname).toBe('/set-password');
 
     await context.clearCookies();
-    await page.goto(`${server.url}${link.pathname}${link.search}`);
+    await page.goto(`${suite.url}${link.pathname}${link.search}`);
     await page.getByRole('heading', { name: 'Welcome to Loadline' }).waitFor();
     await page.getByLabel('New password').fill(firstPassword);
     await page.getByLabel('Repeat the password').fill(`${firstPassword}x`);
@@ -126,13 +113,13 @@ describe('users, invitations and the outbox', () => {
 
     // The link worked once only.
     await context.clearCookies();
-    await page.goto(`${server.url}${link.pathname}${link.search}`);
+    await page.goto(`${suite.url}${link.pathname}${link.search}`);
     await page.getByRole('alert').getByText('This link is not valid any more', { exact: false }).waitFor();
     await page.close();
   });
 
   it('an admin changes the role and deactivates; the deactivated user cannot sign in', async () => {
-    await signInThroughUi(page, server.url, 'admin');
+    await signInThroughUi(page, suite.url, 'admin');
     await page.getByRole('gridcell', { name: email }).click();
     // The clicked row shows as selected and the panel opens for that user.
     await page.locator('.ag-row-selected').getByText(email).waitFor();
@@ -154,7 +141,7 @@ describe('users, invitations and the outbox', () => {
   });
 
   it('forgot password: the page confirms and a reset mail reaches the outbox', async () => {
-    await page.goto(`${server.url}/sign-in`);
+    await page.goto(`${suite.url}/sign-in`);
     await page.getByRole('link', { name: 'Forgot your password?' }).click();
     // The sign-in form stays on screen until the next page's code has loaded.
     await page.getByRole('heading', { name: 'Reset your password' }).waitFor();
@@ -176,7 +163,7 @@ describe('users, invitations and the outbox', () => {
 
 describe('API tokens', () => {
   it('an analyst creates a token, sees the secret once, uses it from a script, and revokes it', async () => {
-    await signInThroughUi(page, server.url, 'analyst');
+    await signInThroughUi(page, suite.url, 'analyst');
     await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'API tokens' }).click();
     const tokenName = unique('nightly export ');
     await page.getByLabel('Token name').fill(tokenName);
@@ -186,7 +173,7 @@ describe('API tokens', () => {
     await page.getByRole('gridcell', { name: tokenName, exact: true }).waitFor();
     await page.screenshot({ path: join(tmpdir(), 'loadline-tokens-analyst.png') });
 
-    const asScript = () => fetch(`${server.url}/api/auth/me`, { headers: { Authorization: `Bearer ${secret}` } });
+    const asScript = () => fetch(`${suite.url}/api/auth/me`, { headers: { Authorization: `Bearer ${secret}` } });
     const before = await asScript();
     expect(before.status).toBe(200);
     expect(((await before.json()) as { email: string }).email).toBe('analyst@quillfield.example');
@@ -201,7 +188,7 @@ describe('API tokens', () => {
 
 describe('audit log', () => {
   it('compliance filters the trail by action and exports it as CSV', async () => {
-    await signInThroughUi(page, server.url, 'compliance');
+    await signInThroughUi(page, suite.url, 'compliance');
     await page.waitForURL((url) => url.pathname === '/audit');
     await page.getByTestId('audit-total').waitFor();
     const filters = page.getByRole('form', { name: 'Audit filters' });

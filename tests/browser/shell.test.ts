@@ -1,8 +1,8 @@
-import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import type { BrowserContext, Page } from 'playwright-core';
-import { collectPageErrors, launchBrowser, screenshotOnFailure, signInThroughUi, startServer, warmUp } from '../helpers/browser';
+import type { Page } from 'playwright-core';
+import { openTestPage, signInThroughUi, startBrowserSuite } from '../helpers/browser';
 import { demoUser } from '../helpers/app';
 import type { Role } from '../../shared/schemas/common';
 
@@ -15,31 +15,17 @@ const EXPECTED: Record<Role, { landing: string; roleLabel: string; visible: stri
   compliance: { landing: '/audit', roleLabel: 'Compliance', visible: ['Home', 'Audit log', 'API tokens', 'Password'] },
 };
 
-let server: Awaited<ReturnType<typeof startServer>>;
-let browser: Awaited<ReturnType<typeof launchBrowser>>;
-let context: BrowserContext;
+let suite: Awaited<ReturnType<typeof startBrowserSuite>>;
 let page: Page;
-let pageErrors: string[] = [];
 
 beforeAll(async () => {
-  server = await startServer();
-  browser = await launchBrowser();
-  context = browser.context;
-  await warmUp(context, server.url);
+  suite = await startBrowserSuite();
 });
 afterAll(async () => {
-  await browser?.close();
-  await server?.close();
+  await suite?.close();
 });
 beforeEach(async () => {
-  await context.clearCookies();
-  page = await context.newPage();
-  screenshotOnFailure(page, 'shell');
-  pageErrors = collectPageErrors(page);
-});
-afterEach(() => {
-  // No uncaught exception or console error in the page during any of these flows.
-  expect(pageErrors).toEqual([]);
+  page = await openTestPage(suite.context, 'shell');
 });
 
 const rail = () => page.getByRole('navigation', { name: 'Main' });
@@ -48,7 +34,7 @@ describe('the shell for each role', () => {
   for (const role of ['admin', 'analyst', 'pm', 'compliance'] as const) {
     it(`${role} lands on their home and sees only their navigation`, async () => {
       const expected = EXPECTED[role];
-      await signInThroughUi(page, server.url, role);
+      await signInThroughUi(page, suite.url, role);
       await page.waitForURL((url) => url.pathname === expected.landing);
       await rail().getByRole('link', { name: 'Home', exact: true }).waitFor();
       for (const label of FOUNDATION_NAV) {
@@ -69,7 +55,7 @@ describe('the shell for each role', () => {
 
 describe('signing in and out', () => {
   it('shows the server’s message in an alert on a wrong password and stays on the sign-in page', async () => {
-    await page.goto(`${server.url}/sign-in`);
+    await page.goto(`${suite.url}/sign-in`);
     await page.getByLabel('E-mail').fill(demoUser('pm').email.replace('pm@', 'pm2@'));
     await page.getByLabel('Password').fill('not-the-password');
     await page.getByRole('button', { name: 'Sign in' }).click();
@@ -81,7 +67,7 @@ describe('signing in and out', () => {
   });
 
   it('shows field errors from the shared schema without calling the server', async () => {
-    await page.goto(`${server.url}/sign-in`);
+    await page.goto(`${suite.url}/sign-in`);
     await page.getByRole('button', { name: 'Sign in' }).click();
     await page.getByText('e-mail is required').waitFor();
     await page.getByText('password is required').waitFor();
@@ -89,18 +75,18 @@ describe('signing in and out', () => {
   });
 
   it('sign-out returns to the sign-in page and the session is gone', async () => {
-    await signInThroughUi(page, server.url, 'analyst');
+    await signInThroughUi(page, suite.url, 'analyst');
     await page.getByRole('button', { name: 'Sign out' }).click();
     await page.waitForURL((url) => url.pathname === '/sign-in');
     await page.getByLabel('E-mail').waitFor();
     // The cookie is cleared on the server's side too: a signed-in page sends us back.
-    await page.goto(`${server.url}/home`);
+    await page.goto(`${suite.url}/home`);
     await page.waitForURL((url) => url.pathname === '/sign-in');
     await page.close();
   });
 
   it('an anonymous visit to a page goes through sign-in and back to that page', async () => {
-    await page.goto(`${server.url}/audit`);
+    await page.goto(`${suite.url}/audit`);
     await page.waitForURL((url) => url.pathname === '/sign-in' && url.searchParams.get('next') === '/audit');
     const user = demoUser('admin');
     await page.getByLabel('E-mail').fill(user.email);
@@ -111,8 +97,8 @@ describe('signing in and out', () => {
   });
 
   it('a page opened by address that the role cannot use says so', async () => {
-    await signInThroughUi(page, server.url, 'analyst');
-    await page.goto(`${server.url}/users`);
+    await signInThroughUi(page, suite.url, 'analyst');
+    await page.goto(`${suite.url}/users`);
     const alert = page.getByRole('alert');
     await alert.getByText('Not available to your role').waitFor();
     expect(await page.getByRole('gridcell', { name: 'admin@quillfield.example' }).count()).toBe(0);
@@ -122,10 +108,10 @@ describe('signing in and out', () => {
   it('loads everything from its own origin: fonts ship in the bundle, nothing comes from a CDN', async () => {
     const requested: string[] = [];
     page.on('request', (request) => requested.push(request.url()));
-    await signInThroughUi(page, server.url, 'analyst');
+    await signInThroughUi(page, suite.url, 'analyst');
     await page.getByRole('heading', { level: 1 }).waitFor();
     await page.evaluate(() => document.fonts.ready);
-    const foreign = requested.filter((url) => !url.startsWith(`${server.url}/`) && !url.startsWith('data:'));
+    const foreign = requested.filter((url) => !url.startsWith(`${suite.url}/`) && !url.startsWith('data:'));
     expect(foreign).toEqual([]);
     const fonts = requested.filter((url) => /\/assets\/(inter|jetbrains-mono)-.*\.woff2$/.test(url));
     expect(fonts.some((url) => url.includes('/assets/inter-'))).toBe(true);
@@ -134,8 +120,8 @@ describe('signing in and out', () => {
   });
 
   it('an unknown address shows the not-found page inside the shell', async () => {
-    await signInThroughUi(page, server.url, 'compliance');
-    await page.goto(`${server.url}/no-such-page`);
+    await signInThroughUi(page, suite.url, 'compliance');
+    await page.goto(`${suite.url}/no-such-page`);
     await page.getByRole('heading', { name: 'No page at this address' }).waitFor();
     await rail().waitFor();
     await page.close();

@@ -2,7 +2,7 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Server } from 'node:http';
-import { onTestFailed } from 'vitest';
+import { expect, onTestFailed, onTestFinished } from 'vitest';
 import { chromium, type BrowserContext, type Page } from 'playwright-core';
 import { loadConfig, type Config } from '../../server/config';
 import { createKnex, bindModels } from '../../server/db/knex';
@@ -86,4 +86,34 @@ export function collectPageErrors(page: Page): string[] {
     if (message.type() === 'error' && !message.text().startsWith('Failed to load resource')) errors.push(message.text());
   });
   return errors;
+}
+
+/** A browser test file's fixtures (call in beforeAll): the real app, Debian's Chromium, and one warm-up page load. */
+export async function startBrowserSuite(overrides: Partial<Config> = {}): Promise<{ url: string; context: BrowserContext; close: () => Promise<void> }> {
+  const server = await startServer(overrides);
+  const browser = await launchBrowser();
+  await warmUp(browser.context, server.url);
+  return {
+    url: server.url,
+    context: browser.context,
+    close: async () => {
+      await browser.close();
+      await server.close();
+    },
+  };
+}
+
+/**
+ * A fresh page for one test (call in beforeEach): signed out, a screenshot kept if the test fails, and the test fails
+ * on any uncaught exception or console error the page produced.
+ */
+export async function openTestPage(context: BrowserContext, label: string): Promise<Page> {
+  await context.clearCookies();
+  const page = await context.newPage();
+  screenshotOnFailure(page, label);
+  const errors = collectPageErrors(page);
+  onTestFinished(() => {
+    expect(errors).toEqual([]);
+  });
+  return page;
 }
