@@ -13,7 +13,8 @@ export function LoadingsHeatmap({ symbols, loadings, factors }: { symbols: strin
   const max = useMemo(() => loadings.reduce((m, row) => Math.max(m, ...row.map(Math.abs)), 0), [loadings]);
   const cell = 14;
   const rowHeight = symbols.length > 200 ? 3 : cell;
-  const labelWidth = symbols.length > 200 ? 0 : 90;
+  // Mono 10 px labels: about 6.1 px a character.
+  const labelWidth = symbols.length > 200 ? 0 : Math.max(48, Math.ceil(symbols.reduce((m, s) => Math.max(m, s.length), 0) * 6.1) + 10);
   const width = labelWidth + factors * 40;
   const height = 20 + symbols.length * rowHeight;
   return (
