@@ -140,6 +140,30 @@ describe('users, invitations and the outbox', () => {
     await page.close();
   });
 
+  it('resending an invitation mails a new link and the older one stops working', async () => {
+    const other = `${unique('resend')}@quillfield.example`;
+    await signInThroughUi(page, suite.url, 'admin');
+    await page.getByRole('button', { name: 'Invite a user' }).click();
+    const form = page.getByRole('form', { name: 'Invite a user' });
+    await form.getByLabel('E-mail').fill(other);
+    await form.getByLabel('Name').fill('Teodor Vasquez-Lind');
+    await form.getByRole('button', { name: 'Send invitation' }).click();
+    await page.getByText(`Invitation sent to ${other}`).waitFor();
+    await page.getByRole('button', { name: 'Resend invitation' }).click();
+    await page.getByText(`A new invitation went to ${other}.`).waitFor();
+
+    const mails = await sinkKnex('outbox_messages').where({ to_address: other }).orderBy('id');
+    expect(mails.map((mail) => mail.subject)).toEqual(['You are invited to Loadline', 'You are invited to Loadline']);
+    const linkIn = (text: string) => new URL(/https?:\/\/\S+/.exec(text)![0]);
+    const [older, newer] = mails.map((mail) => linkIn(mail.text));
+    await context.clearCookies();
+    await page.goto(`${suite.url}${older.pathname}${older.search}`);
+    await page.getByRole('alert').getByText('This link is not valid any more', { exact: false }).waitFor();
+    await page.goto(`${suite.url}${newer.pathname}${newer.search}`);
+    await page.getByRole('heading', { name: 'Welcome to Loadline' }).waitFor();
+    await page.close();
+  });
+
   it('forgot password: the page confirms and a reset mail reaches the outbox', async () => {
     await page.goto(`${suite.url}/sign-in`);
     await page.getByRole('link', { name: 'Forgot your password?' }).click();
