@@ -57,7 +57,7 @@ export function fitProfileFactorAnalysis(
       },
     };
     // A guard band of extra pairs (block = L + guard) keeps convergence fast when λ_L sits in the noise bulk.
-    const eig = topEigenpairs(op, kWanted, { tolerance: Math.max(eigTol, Math.min(1e-6, 1e-2 * lastChange)), start: warm, startColumns: warm ? kWanted : 0, blockSize: kWanted, basisSize: 6 * kWanted, convergeCount: l, maxRestarts: 200 });
+    const eig = topEigenpairs(op, kWanted, { tolerance: Math.max(eigTol, Math.min(1e-3, 1e-2 * lastChange)), start: warm, startColumns: warm ? kWanted : 0, blockSize: kWanted, basisSize: 6 * kWanted, convergeCount: l, maxRestarts: 200 });
     applications += eig.operatorApplications;
     warm = eig.vectors;
     return eig;

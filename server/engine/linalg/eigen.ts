@@ -287,6 +287,31 @@ export function topEigenpairs(op: SymmetricOperator, k: number, options: TopEige
 
   let applications = 0;
   let restarts = 0;
+  const earlyChecks = options.start !== undefined && (options.startColumns ?? 0) >= k;
+  /** Rayleigh–Ritz on the first `fill` basis rows: the wanted pairs and their largest relative residual. */
+  const ritzCheck = (fill: number) => {
+    const qf = q.subarray(0, fill * n);
+    const h = multiplyABt(qf, fill, n, aq.subarray(0, fill * n), fill);
+    for (let i = 0; i < fill; i++) for (let j = 0; j < i; j++) {
+      const v = 0.5 * (h[i * fill + j] + h[j * fill + i]);
+      h[i * fill + j] = v;
+      h[j * fill + i] = v;
+    }
+    const small = symmetricEigen(h, fill);
+    const yT = transpose(small.vectors, fill, fill).subarray(0, k * fill);
+    const ritz = new Float64Array(k * n);
+    const img = new Float64Array(k * n);
+    multiplyRowsInto(yT, k, fill, q, n, ritz);
+    multiplyRowsInto(yT, k, fill, aq, n, img);
+    const scale = Math.max(Math.abs(small.values[0]), 1e-300);
+    let worst = 0;
+    for (let j = 0; j < Math.min(k, options.convergeCount ?? k); j++) {
+      let r = 0;
+      for (let i = 0; i < n; i++) r += (img[j * n + i] - small.values[j] * ritz[j * n + i]) ** 2;
+      worst = Math.max(worst, Math.sqrt(r) / scale);
+    }
+    return { values: small.values.slice(0, k), vectorsT: ritz, maxResidual: worst };
+  };
   // Warm start: one application and a Rayleigh–Ritz on the start block may already be enough.
   if (options.start && (options.startColumns ?? 0) >= k) {
     const img = op.apply(q.subarray(0, b * n), b);
@@ -348,6 +373,13 @@ export function topEigenpairs(op: SymmetricOperator, k: number, options: TopEige
       applications += add;
       aq.set(img, filled * n);
       filled += add;
+      if (earlyChecks && filled < m) {
+        // Warm-started solves usually converge long before the basis is full: check after each block.
+        const early = ritzCheck(filled);
+        if (early.maxResidual <= tol) {
+          return { values: early.values, vectors: transpose(early.vectorsT, k, n), restarts, operatorApplications: applications, maxResidual: early.maxResidual };
+        }
+      }
     }
     // Rayleigh–Ritz: H = Q A Qᵀ (m × m)
     const h = parallelMultiplyABt(q, m, n, aq, m);
