@@ -105,12 +105,19 @@ export type UploadProgress = { loaded: number; total: number; fraction: number }
 
 /**
  * Multipart upload with progress (fetch has no upload progress; XMLHttpRequest does). Resolves with the parsed JSON
- * answer, rejects with ApiError; `abort()` cancels the request (the server then discards the partial upload).
+ * answer, rejects with ApiError; aborting `signal` cancels the request (the server then discards the partial upload).
+ * `answer(status, text)` replaces the default reading when some error statuses carry a useful body (e.g. a 422 preview).
  */
 export function uploadWithProgress<T>(
   path: string,
   form: FormData,
-  options: { method?: 'POST' | 'PUT'; query?: Query; onProgress?: (progress: UploadProgress) => void; signal?: AbortSignal } = {},
+  options: {
+    method?: 'POST' | 'PUT';
+    query?: Query;
+    onProgress?: (progress: UploadProgress) => void;
+    signal?: AbortSignal;
+    answer?: (status: number, text: string) => T;
+  } = {},
 ): Promise<T> {
   return new Promise<T>((resolve, reject) => {
     const xhr = new XMLHttpRequest();
@@ -123,6 +130,14 @@ export function uploadWithProgress<T>(
       options.onProgress({ loaded: event.loaded, total, fraction: total ? event.loaded / total : 0 });
     };
     xhr.onload = () => {
+      if (options.answer) {
+        try {
+          resolve(options.answer(xhr.status, xhr.responseText));
+        } catch (error) {
+          reject(error);
+        }
+        return;
+      }
       let body: { error?: string; issues?: ApiIssue[] } | null = null;
       try {
         body = xhr.responseText ? JSON.parse(xhr.responseText) : null;
