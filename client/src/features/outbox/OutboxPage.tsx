@@ -61,7 +61,7 @@ export default function OutboxPage() {
                 />
                 <span className="flex items-center gap-3 text-xs text-ink-soft">
                   <span>
-                    <span className="font-mono tabular-nums">{formatCount(total)}</span> messages
+                    <span className="font-mono tabular-nums">{formatCount(total)}</span> {total === 1 ? 'message' : 'messages'}
                   </span>
                   <Pager page={page} total={total} pageSize={PAGE_SIZE} onPage={setPage} />
                 </span>
