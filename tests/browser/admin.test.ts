@@ -118,7 +118,7 @@ describe('users, invitations and the outbox', () => {
     await page.close();
   });
 
-  it('an admin changes the role and deactivates; the deactivated user cannot sign in', async () => {
+  it('an admin changes the role and deactivates (sign-in refused), then reactivates', async () => {
     await signInThroughUi(page, suite.url, 'admin');
     await page.getByRole('gridcell', { name: email }).click();
     // The clicked row shows as selected and the panel opens for that user.
@@ -137,6 +137,16 @@ describe('users, invitations and the outbox', () => {
     await signInAs(email, password);
     await page.getByRole('alert').waitFor();
     expect(new URL(page.url()).pathname).toBe('/sign-in');
+
+    // Reactivated, they sign in again and land where their new role (compliance) lands.
+    await signInThroughUi(page, suite.url, 'admin');
+    await page.getByRole('gridcell', { name: email }).click();
+    await page.getByRole('button', { name: 'Reactivate' }).click();
+    await page.getByText(`${name} can sign in again.`).waitFor();
+    await page.getByRole('button', { name: 'Sign out' }).click();
+    await page.waitForURL((url) => url.pathname === '/sign-in');
+    await signInAs(email, password);
+    await page.waitForURL((url) => url.pathname === '/audit');
     await page.close();
   });
 
