@@ -20,6 +20,7 @@ export class ModelRun extends Model {
   heartbeat_at!: Date | null;
   error!: string | null;
   job_id!: string | null;
+  worker!: string | null;
   attempts!: number;
   cancel_requested_at!: Date | null;
   created_by!: number;

@@ -67,6 +67,7 @@ export async function toDtos(runs: ModelRun[]): Promise<ModelRunDto[]> {
       progress: { stage: r.progress_stage, iteration: r.progress_iteration, logLikelihood: r.progress_log_likelihood, fraction: r.progress_fraction },
       error: r.error,
       attempts: r.attempts,
+      worker: r.worker ?? null,
       createdBy: users.get(r.created_by) ?? null,
       createdAt: iso(r.created_at)!,
       startedAt: iso(r.started_at),

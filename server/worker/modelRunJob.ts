@@ -6,6 +6,7 @@
  * the pg-boss job so that pg-boss retries it on any live worker (retryLimit), or fails the run once the attempts are
  * used up. A late answer from a worker presumed dead is discarded (the claim's attempt number no longer matches).
  */
+import { hostname } from 'node:os';
 import type PgBoss from 'pg-boss';
 import type { Knex } from 'knex';
 import { Model } from 'objection';
@@ -31,6 +32,9 @@ export interface ModelJobOptions {
 }
 
 const db = (): Knex => Model.knex();
+
+/** This process, as recorded on the runs it takes. */
+export const WORKER_NAME = `${hostname()}:${process.pid}`;
 
 /** Share of the work done, for the progress bar: each engine stage spans a range; EM iterations approach its end. */
 function fractionOf(p: FitProgress): number {
@@ -58,6 +62,7 @@ export async function runModelFitJob(job: PgBoss.Job<ModelFitJob>, options: Mode
       heartbeat_at: db().fn.now(),
       updated_at: db().fn.now(),
       job_id: job.id,
+      worker: WORKER_NAME,
       progress_stage: 'loading data',
       progress_iteration: 0,
       progress_log_likelihood: null,

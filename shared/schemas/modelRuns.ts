@@ -76,6 +76,7 @@ export const ModelRunSchema = z
     progress: z.object({ stage: z.string().nullable(), iteration: z.number().nullable(), logLikelihood: z.number().nullable(), fraction: z.number() }),
     error: z.string().nullable(),
     attempts: z.number(),
+    worker: z.string().nullable(),
     createdBy: UserRefSchema,
     createdAt: z.string(),
     startedAt: z.string().nullable(),

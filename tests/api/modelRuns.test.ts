@@ -6,7 +6,7 @@ import type PgBoss from 'pg-boss';
 import { testContext, signIn, unique } from '../helpers/app';
 import { createBoss } from '../../server/worker/boss';
 import { bindModels } from '../../server/db/knex';
-import { registerModelFitJobs } from '../../server/worker/modelRunJob';
+import { registerModelFitJobs, WORKER_NAME } from '../../server/worker/modelRunJob';
 import { stopFitThread } from '../../server/worker/fitPool';
 import { modelFitQueue, stopQueueSenders, useModelFitQueue } from '../../server/services/modelQueue';
 import { loadModel, panelSha256 } from '../../server/services/modelStore';
@@ -369,6 +369,49 @@ describe('model runs with a worker', () => {
     const audit2 = await ctx.knex('audit_events').where({ object_type: 'model_run', object_id: String(runId) }).orderBy('id');
     expect(audit2.map((e) => e.action)).toEqual(['model-run.created', 'model-run.approved', 'model-run.retired']);
   }, 60_000);
+
+  it('shares the load: a second worker process takes a job while the first worker is busy', async () => {
+    const big = plantedPanel({ assets: 400, observations: 500, factors: 8, seed: 61, noise: 'student-t' });
+    const bigSymbols = await insertPanel(ctx.knex, unique('MW'), big.panel.values, 500, 400);
+    const small = plantedPanel({ assets: 12, observations: 120, factors: 2, seed: 62 });
+    const smallSymbols = await insertPanel(ctx.knex, unique('MX'), small.panel.values, 120, 12);
+    const post = (symbols: string[], t: number, factors: number | 'recommend') =>
+      request(ctx.app).post('/api/model-runs').set('Authorization', `Bearer ${tokens.analyst}`).send({ universe: { kind: 'assets', symbols }, window: { kind: 'last', observations: t }, estimator: 'fa', factors });
+    // A long job: choosing L by held-out blocks refits L = 1 … 10 six times (it is cancelled at the end).
+    const first = await post(bigSymbols, 500, 'recommend');
+    // This process's worker takes the long fit…
+    const running = await waitFor('the long fit to start here', async () => {
+      const res = await getRun(first.body.id);
+      return res.body.status === 'running' ? res.body : null;
+    }, 60_000, 10);
+    expect(running.worker).toBe(WORKER_NAME);
+    // …then a second worker process starts, and the next job goes to it while this one is busy.
+    const child = spawn(process.execPath, ['--import', 'tsx', 'server/worker/main.ts'], { cwd: paths.repoRoot, env: { ...process.env, DATABASE_URL: ctx.config.databaseUrl, LOADLINE_MODEL_FIT_QUEUE: modelFitQueue() }, stdio: ['ignore', 'pipe', 'ignore'] });
+    try {
+      await new Promise<void>((resolve, reject) => {
+        child.stdout!.on('data', (chunk: Buffer) => chunk.toString().includes('waiting for jobs') && resolve());
+        child.once('exit', (code) => reject(new Error(`worker exited (${code})`)));
+      });
+      const second = await post(smallSymbols, 120, 2);
+      const done = await waitFor('the second run', async () => {
+        const res = await getRun(second.body.id);
+        return ['succeeded', 'failed', 'cancelled'].includes(res.body.status) ? res.body : null;
+      }, 90_000);
+      expect(done.status).toBe('succeeded');
+      expect((await getRun(first.body.id)).body.status).toBe('running');
+      expect(done.worker).not.toBe(WORKER_NAME);
+      expect(done.worker).toMatch(/:\d+$/);
+      await request(ctx.app).post(`/api/model-runs/${first.body.id}/cancel`).set('Authorization', `Bearer ${tokens.analyst}`).expect(200);
+      const stopped = await waitFor('the long fit to stop', async () => {
+        const res = await getRun(first.body.id);
+        return ['succeeded', 'failed', 'cancelled'].includes(res.body.status) ? res.body : null;
+      }, 60_000);
+      expect(stopped.status).toBe('cancelled');
+    } finally {
+      child.kill('SIGTERM');
+      await new Promise((r) => (child.exitCode !== null ? r(null) : child.once('exit', r)));
+    }
+  }, 240_000);
 
   it('is never left running when its worker process is killed mid-fit', async () => {
     // Stop this process's worker so that the separate worker process takes the job.
