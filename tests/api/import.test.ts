@@ -178,6 +178,7 @@ describe('bad input: a clear 422 naming row and column, nothing stored', () => {
     { file: 'missing-column.csv', code: 'header-missing', row: 1, column: 'value', message: /no "value" column/ },
     { file: 'duplicate-header.csv', fields: { format: 'wide' }, code: 'header-duplicate', row: 1, message: /appears twice \(columns 2 and 4\)/ },
     { file: 'non-numeric.csv', code: 'not-a-number', row: 3, column: 'value', message: /"abc" is not a number/ },
+    { file: 'out-of-range.csv', code: 'not-a-number', row: 3, column: 'value', message: /"1e400" is out of range/ },
     { file: 'duplicate-rows.csv', code: 'duplicate', row: 4, column: 'value', message: /on 2024-01-02 appears more than once/ },
     { file: 'bad-dates.csv', code: 'bad-date', row: 3, column: 'date', message: /day 30 does not exist/ },
     { file: 'ambiguous-dates.csv', code: 'bad-date', row: 2, column: 'date', message: /not an ISO 8601 date.*day-first or month-first/ },

@@ -15,7 +15,7 @@ import { parse } from 'csv-parse';
 import type { ImportOptions, ImportSummary } from '../../../shared/schemas/imports';
 import { recordAudit } from '../auditService';
 import {
-  DELIMITER_CHAR, cachedDateParser, detectDelimiter, isoDate, parseNumber, readHead, readHeader, validSymbol, weekday,
+  DELIMITER_CHAR, PLAIN_NUMBER, cachedDateParser, detectDelimiter, isoDate, parseNumber, readHead, readHeader, validSymbol, weekday,
   type Delimiter, type HeaderLayout, type Problem,
 } from './parse';
 import { DaySet, detectFrequency, gapWarnings, storedValue, type Frequency } from './validate';
@@ -111,17 +111,24 @@ async function scanAndStage(
   let line = 0;
   const threshold = options.returnThreshold;
   const checkReturns = options.valueKind !== 'price';
+  const verbatim = options.valueKind === 'simple-decimal' || options.valueKind === 'price';
+  const knownSymbols = new Map<string, number>(); // raw cell text → symbol index, for symbols already checked
   let chunk = '';
 
   /** One value of one row: checks it, records its date, and stages it (errors go to the log). */
   const takeValue = (row: number, day: number, sym: number, text: string, column: string): void => {
-    const parsed = parseNumber(text);
+    const plain = PLAIN_NUMBER.test(text);
+    const parsed = plain ? Number(text) : parseNumber(text);
     if (parsed === null) {
       scan.missingValues++;
       return;
     }
     if (typeof parsed === 'string') {
       log.add({ severity: 'error', row, column, code: 'not-a-number', message: `Row ${row}, column ${column}: ${parsed}` });
+      return;
+    }
+    if (!Number.isFinite(parsed)) {
+      log.add({ severity: 'error', row, column, code: 'not-a-number', message: `Row ${row}, column ${column}: "${text.trim().slice(0, 40)}" is out of range` });
       return;
     }
     scan.valuesRead++;
@@ -148,7 +155,9 @@ async function scanAndStage(
     }
     if (scan.previewRows.length < PREVIEW_ROWS) scan.previewRows.push({ row, date: isoDate(day), symbol, value });
     if (log.errors === 0) {
-      chunk += `${row}\t${sym}\t${day}\t${value}\n`;
+      // Short decimal returns and prices go to PostgreSQL as written (checked numbers without exponent: float8 input
+      // reads them to the same double); others as JavaScript's shortest round-trip text.
+      chunk += `${row}\t${sym}\t${day}\t${verbatim && plain && text.length <= 24 && !/[eE]/.test(text) ? text : value}\n`;
       scan.staged++;
     }
   };
@@ -179,12 +188,18 @@ async function scanAndStage(
         return done();
       }
       if (options.format === 'long') {
-        const symbol = record[layout.symbolIndex].trim().toUpperCase();
-        if (!validSymbol(symbol)) {
-          log.add({ severity: 'error', row: line, column: 'symbol', code: 'symbol-invalid', message: `Row ${line}, column symbol: "${symbol.slice(0, 40)}" is not a usable symbol` });
-          return done();
+        const raw = record[layout.symbolIndex];
+        let sym = knownSymbols.get(raw);
+        if (sym === undefined) {
+          const symbol = raw.trim().toUpperCase();
+          if (!validSymbol(symbol)) {
+            log.add({ severity: 'error', row: line, column: 'symbol', code: 'symbol-invalid', message: `Row ${line}, column symbol: "${symbol.slice(0, 40)}" is not a usable symbol` });
+            return done();
+          }
+          sym = indexOfSymbol(symbol);
+          if (knownSymbols.size < 1_000_000) knownSymbols.set(raw, sym);
         }
-        takeValue(line, day, indexOfSymbol(symbol), record[layout.valueIndex], 'value');
+        takeValue(line, day, sym, record[layout.valueIndex], 'value');
       } else {
         for (let column = 0; column < record.length; column++) {
           const sym = columnIndexes[column];

@@ -172,7 +172,9 @@ export function cachedDateParser(format: ImportOptions['dateFormat']): (text: st
 
 // --- numbers ----------------------------------------------------------------------------------------
 
-const NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/;
+/** A number exactly as written in decimal-point notation (no spaces): safe to pass on as it is. */
+export const PLAIN_NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/;
+const NUMBER = PLAIN_NUMBER;
 const MISSING = new Set(['', 'NA', 'N/A', '#N/A', 'NAN', 'NULL', '-']);
 
 /** A number in decimal-point notation, null for a conventional missing marker, or why it is not a number. */
