@@ -147,7 +147,8 @@ function Lifecycle({ run }: { run: ModelRun }) {
     <Card title="Lifecycle" actions={<LifecycleBadge run={run} />}>
       <div className="flex flex-col gap-3 text-sm">
         <p className="text-ink-soft">
-          Run by {run.createdBy?.name ?? '—'} on {formatDateTime(run.createdAt)}.
+          Run by {run.createdBy?.name ?? '—'} on {formatDateTime(run.createdAt)}
+          {run.worker ? `, fitted by worker ${run.worker}${run.attempts > 1 ? ` (attempt ${run.attempts})` : ''}` : ''}.
           {run.approvedBy ? ` Approved by ${run.approvedBy.name} on ${formatDateTime(run.approvedAt)}: “${run.approvalComment}”.` : ''}
           {run.retiredBy ? ` Retired by ${run.retiredBy.name} on ${formatDateTime(run.retiredAt)}: “${run.retireComment}”.` : ''}
         </p>
