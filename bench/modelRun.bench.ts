@@ -126,5 +126,9 @@ export default async function run(): Promise<void> {
   console.log(`  worker's fit thread (stored fit_seconds)   ${fmt(median(fitSeconds))}`);
   console.log(`  end to end: request → queue → worker → stored → read 'succeeded'   ${fmt(e2e)}   [${endToEnd.map(fmt).join(', ')}]`);
   console.log(`  overhead over the engine ${fmt(e2e - engine)} (target ≤ 1 s): ${e2e - engine <= 1000 ? 'MET' : 'NOT MET'}`);
+  // The same overhead measured inside the worker (end to end minus its own fit time): immune to the two processes
+  // seeing different machine load, which on a shared 2-core machine can move the engine time by seconds.
+  const queueOverhead = median(endToEnd.map((e, k) => e - fitSeconds[k]));
+  console.log(`  queue overhead (end to end − the worker's fit time) ${fmt(queueOverhead)} (target ≤ 1 s): ${queueOverhead <= 1000 ? 'MET' : 'NOT MET'}`);
   await knex.destroy();
 }
