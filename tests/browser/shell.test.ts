@@ -96,6 +96,21 @@ describe('signing in and out', () => {
     await page.close();
   });
 
+  it('a session that ends while the console is open leads back through sign-in to the same page', async () => {
+    await signInThroughUi(page, suite.url, 'analyst');
+    await page.getByRole('heading', { level: 1 }).waitFor();
+    await page.context().clearCookies(); // as when the session expires or an admin deactivates the account
+    await rail().getByRole('link', { name: 'API tokens' }).click();
+    await page.waitForURL((url) => url.pathname === '/sign-in' && url.searchParams.get('next') === '/tokens');
+    const user = demoUser('analyst');
+    await page.getByLabel('E-mail').fill(user.email);
+    await page.getByLabel('Password').fill(user.password);
+    await page.getByRole('button', { name: 'Sign in' }).click();
+    await page.waitForURL((url) => url.pathname === '/tokens');
+    await page.getByRole('heading', { name: 'API tokens' }).waitFor();
+    await page.close();
+  });
+
   it('a page opened by address that the role cannot use says so', async () => {
     await signInThroughUi(page, suite.url, 'analyst');
     await page.goto(`${suite.url}/users`);
