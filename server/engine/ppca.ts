@@ -22,20 +22,20 @@ export interface Spectrum {
 }
 
 /** Top-k eigenpairs of the scatter S, using the smaller of the N × N and T × T problems. */
-export function topSpectrum(scatter: Scatter, k: number, tolerance = 1e-11, direct = false): Spectrum {
+export function topSpectrum(scatter: Scatter, k: number, tolerance = 1e-11, direct = false, convergeCount = k): Spectrum {
   const n = scatter.size;
   const t = scatter.observations;
   if (k === 0) return { values: new Float64Array(0), vectors: new Float64Array(0), via: 'covariance' };
   if (direct) {
     // Krylov on the scatter as it is held (data or dense), no Gram/covariance formation: for warm starts.
-    const eig = topEigenpairs(scatter, k, { tolerance, basisSize: Math.min(n, 3 * Math.max(8, k + 4)), maxRestarts: 20 });
+    const eig = topEigenpairs(scatter, k, { tolerance, basisSize: Math.min(n, 3 * Math.max(8, k + 4)), maxRestarts: 20, convergeCount });
     return { values: eig.values.map((v) => Math.max(v, 0)), vectors: eig.vectors, via: scatter.dense ? 'covariance' : 'operator' };
   }
   if (scatter.data && t < n && !scatter.dense) {
     const { z } = scatter.data;
     const g = parallelMultiplyABt(z, t, n, z, t, true);
     const kk = Math.min(k, t);
-    const eig = topEigenpairs(denseOperator(g, t), kk, { tolerance });
+    const eig = topEigenpairs(denseOperator(g, t), kk, { tolerance, convergeCount: Math.min(convergeCount, kk) });
     // v_j = Zᵀ u_j / √λ_j, as rows (k × N): Uᵀ Z
     const ut = new Float64Array(kk * t);
     for (let r = 0; r < t; r++) for (let j = 0; j < kk; j++) ut[j * t + r] = eig.vectors[r * kk + j];
@@ -51,7 +51,7 @@ export function topSpectrum(scatter: Scatter, k: number, tolerance = 1e-11, dire
     return { values, vectors, via: 'gram' };
   }
   const s = denseScatter(scatter);
-  const eig = topEigenpairs(denseOperator(s, n), k, { tolerance });
+  const eig = topEigenpairs(denseOperator(s, n), k, { tolerance, convergeCount });
   const values = eig.values.map((v) => Math.max(v, 0));
   return { values, vectors: eig.vectors, via: 'covariance' };
 }
@@ -78,7 +78,8 @@ export function fitPpca(scatter: Scatter, l: number, spectrumSize = l, options: 
   const n = scatter.size;
   if (!(Number.isInteger(l) && l >= 0 && l < n)) throw new Error(`number of factors must be an integer in [0, ${n - 1}], got ${l}`);
   const k = Math.min(Math.max(l, spectrumSize), n);
-  const spec = topSpectrum(scatter, k, options.tolerance ?? 1e-9, options.direct ?? false);
+  // Only the top L pairs enter σ² and W; the extra diagnostic eigenvalues ride along (errors quadratic in residuals).
+  const spec = topSpectrum(scatter, k, options.tolerance ?? 1e-9, options.direct ?? false, Math.max(l, 1));
   let top = 0;
   for (let j = 0; j < l; j++) top += spec.values[j];
   const sigma2 = Math.max((scatter.trace - top) / (n - l), 1e-300);
