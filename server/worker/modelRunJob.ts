@@ -105,8 +105,11 @@ export async function runModelFitJob(job: PgBoss.Job<ModelFitJob>, options: Mode
   };
   const timer = setInterval(() => void beat(), heartbeatMs);
   try {
+    const loadStarted = performance.now();
     const panel = await loadPanel(db(), parameters.universe, parameters.window, parameters.missing);
     const sha = panelSha256(panel.values);
+    const loadSeconds = (performance.now() - loadStarted) / 1000;
+    const fitStarted = performance.now();
     await beat();
     if (cancelReason) throw new FitCancelled(cancelReason);
     let lastWrite = 0;
@@ -121,6 +124,7 @@ export async function runModelFitJob(job: PgBoss.Job<ModelFitJob>, options: Mode
     cancelFit = handle.cancel;
     if (cancelReason) handle.cancel(cancelReason);
     const fit = await handle.result;
+    const threadSeconds = (performance.now() - fitStarted) / 1000;
     latest = { stage: 'storing', iteration: Number(fit.diagnostics.iterations ?? 0), logLikelihood: fit.logLikelihood ?? undefined };
     const stored = await db().transaction(async (trx) => {
       const updated = await trx('model_runs')
@@ -148,7 +152,7 @@ export async function runModelFitJob(job: PgBoss.Job<ModelFitJob>, options: Mode
         periodsPerYear: panel.periodsPerYear,
         factorScores: fit.factorScores,
         logLikelihood: fit.logLikelihood,
-        diagnostics: { ...fit.diagnostics, missingShare: panel.missingShare, droppedAssets: panel.droppedAssets, droppedDates: panel.droppedDates, fitSeconds: fit.engineSeconds },
+        diagnostics: { ...fit.diagnostics, missingShare: panel.missingShare, droppedAssets: panel.droppedAssets, droppedDates: panel.droppedDates, fitSeconds: fit.engineSeconds, timings: { loadSeconds, threadSeconds, engineSeconds: fit.engineSeconds } },
       });
       return true;
     });
