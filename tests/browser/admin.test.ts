@@ -71,7 +71,10 @@ describe('users, invitations and the outbox', () => {
     // The outbox shows the message the sink received; its link leads to the set-password page.
     await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Outbox' }).click();
     await page.getByLabel('Recipient contains').fill(email);
-    await page.getByRole('gridcell', { name: 'You are invited to Loadline' }).click();
+    // Other test files send invitations into the same sink: wait until the filter leaves only this one.
+    const invitation = page.getByRole('gridcell', { name: 'You are invited to Loadline' });
+    await expect.poll(() => invitation.count(), { timeout: 15_000 }).toBe(1);
+    await invitation.click();
     const message = page.getByRole('article', { name: 'Message' });
     await message.getByText(`Hello ${name}`).waitFor();
     await page.screenshot({ path: join(tmpdir(), 'loadline-outbox-admin.png') });
