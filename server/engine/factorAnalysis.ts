@@ -110,9 +110,20 @@ export function fitFactorAnalysis(scatter: Scatter, l: number, options: FactorAn
       l,
       startPsi,
       floor,
-      { tolerance: options.tolerance ?? 1e-12, parameterTolerance: options.parameterTolerance ?? 1e-7, maxEvaluations: options.maxEvaluations ?? 20000, accelerate: options.accelerate },
+      { tolerance: options.tolerance ?? 1e-12, parameterTolerance: options.parameterTolerance ?? 1e-7, maxEvaluations: Math.min(options.maxEvaluations ?? 20000, 500), accelerate: options.accelerate },
       control,
     );
+    if (!prof.converged && (options.maxEvaluations ?? 20000) > prof.evaluations) {
+      // Safeguard: should the inexact eigensolves stall the profile iteration, finish with monotone EM + SQUAREM
+      // from where it stopped.
+      const em = fitFactorAnalysis(
+        scatter,
+        l,
+        { ...options, algorithm: 'em', start: { loadings: prof.loadings, specificVariance: prof.specificVariance }, maxEvaluations: (options.maxEvaluations ?? 20000) - prof.evaluations },
+        control,
+      );
+      return { ...em, trace: [...prof.trace, ...em.trace], iterations: prof.iterations + em.iterations, evaluations: prof.evaluations + em.evaluations };
+    }
     return {
       loadings: canonicalLoadings(prof.loadings, prof.specificVariance, n, l),
       specificVariance: prof.specificVariance,
