@@ -16,6 +16,12 @@ export function useModelFitQueue(name: string): void {
   queueName = name;
 }
 
+/**
+ * PostgreSQL channel on which the web server announces a new job (payload: the queue name), so idle workers fetch at
+ * once instead of at their next poll (pg-boss 10 polls every 0.5 s at best; notifyWorker wakes a worker early).
+ */
+export const MODEL_FIT_CHANNEL = 'loadline_model_fit';
+
 /** Queue policy: a killed worker's job is retried (up to 2 more attempts) once it expires or the sweep fails it. */
 export const MODEL_FIT_QUEUE_OPTIONS = {
   retryLimit: 2,

@@ -10,7 +10,7 @@ import { conflict, forbidden, notFound, unprocessable } from '../http/errors';
 import { recordAudit } from './auditService';
 import { loadModel, type StoredModel } from './modelStore';
 import { observationCounts, resolveUniverse, windowDates } from './modelPanel';
-import { ensureModelFitQueue, modelFitQueue, queueSender } from './modelQueue';
+import { MODEL_FIT_CHANNEL, ensureModelFitQueue, modelFitQueue, queueSender } from './modelQueue';
 import type { AuthenticatedUser } from '../auth/access';
 import { communalities, loadingSubspaceAngles, varimax } from '../engine/rotation';
 import { varianceBreakdown } from '../engine/risk';
@@ -154,6 +154,7 @@ export async function enqueueRun(databaseUrl: string, runId: number): Promise<vo
     const jobId = await boss.send(modelFitQueue(), { runId });
     if (!jobId) throw new Error('the queue refused the job');
     await ModelRun.query().patch({ job_id: jobId }).where({ id: runId }).whereNull('job_id');
+    await knex().raw('SELECT pg_notify(?, ?)', [MODEL_FIT_CHANNEL, modelFitQueue()]);
   } catch (error) {
     await ModelRun.query()
       .patch({ status: 'failed', error: `Could not queue the fit: ${(error as Error).message}`, finished_at: new Date() })

@@ -8,13 +8,14 @@
  */
 import { hostname } from 'node:os';
 import type PgBoss from 'pg-boss';
+import pg from 'pg';
 import type { Knex } from 'knex';
 import { Model } from 'objection';
 import { ModelRun } from '../models/ModelRun';
 import { HttpError } from '../http/errors';
 import { loadPanel } from '../services/modelPanel';
 import { insertModelResult, panelSha256 } from '../services/modelStore';
-import { MODEL_FIT_QUEUE_OPTIONS, ensureModelFitQueue, modelFitQueue, type ModelFitJob } from '../services/modelQueue';
+import { MODEL_FIT_CHANNEL, MODEL_FIT_QUEUE_OPTIONS, ensureModelFitQueue, modelFitQueue, type ModelFitJob } from '../services/modelQueue';
 import { FitCancelled, FitThreadStopped, runFit, warmFitThread } from './fitPool';
 import type { FitProgress } from '../engine/types';
 import { STAGES } from './fitCompute';
@@ -254,14 +255,42 @@ export async function sweepModelRuns(boss: PgBoss, staleSeconds: number, log: (m
   return touched;
 }
 
-/** Registers the model-fit queue and handler on a started pg-boss; returns a function that stops the sweep. */
+/** Wakes the given pg-boss worker whenever the web server announces a job on this queue (LISTEN/NOTIFY). */
+async function listenForJobs(boss: PgBoss, workerId: string, log: (m: string) => void): Promise<() => Promise<void>> {
+  const connection = (Model.knex().client as { config: { connection: string | pg.ClientConfig } }).config.connection;
+  let client: pg.Client | null = null;
+  let stopped = false;
+  const connect = async () => {
+    if (stopped) return;
+    const c = new pg.Client(typeof connection === 'string' ? { connectionString: connection } : connection);
+    c.on('notification', (message) => {
+      if (message.payload === modelFitQueue()) boss.notifyWorker(workerId);
+    });
+    c.on('error', (error) => {
+      log(`[model-fit] job notifications lost (${error.message}); polling until they are back`);
+      client = null;
+      setTimeout(() => void connect().catch(() => undefined), 5000).unref();
+    });
+    await c.connect();
+    await c.query(`LISTEN ${MODEL_FIT_CHANNEL}`);
+    client = c;
+  };
+  await connect().catch((error) => log(`[model-fit] no job notifications (${(error as Error).message}); polling only`));
+  return async () => {
+    stopped = true;
+    await client?.end().catch(() => undefined);
+  };
+}
+
+/** Registers the model-fit queue and handler on a started pg-boss; returns a function that stops the sweep and the listener. */
 export async function registerModelFitJobs(boss: PgBoss, options: ModelJobOptions = {}): Promise<() => void> {
   await ensureModelFitQueue(boss);
   await warmFitThread();
   const log = options.log ?? ((m: string) => console.log(m));
-  await boss.work<ModelFitJob>(modelFitQueue(), { batchSize: 1, pollingIntervalSeconds: options.pollingIntervalSeconds ?? 0.5 }, async (jobs) => {
+  const workerId = await boss.work<ModelFitJob>(modelFitQueue(), { batchSize: 1, pollingIntervalSeconds: options.pollingIntervalSeconds ?? 0.5 }, async (jobs) => {
     for (const job of jobs) await runModelFitJob(job, { ...options, log });
   });
+  const stopListening = await listenForJobs(boss, workerId, log);
   const staleSeconds = options.staleSeconds ?? 30;
   let sweeping = false;
   const sweep = async () => {
@@ -278,5 +307,8 @@ export async function registerModelFitJobs(boss: PgBoss, options: ModelJobOption
   void sweep();
   const timer = setInterval(() => void sweep(), options.sweepMs ?? 10_000);
   timer.unref();
-  return () => clearInterval(timer);
+  return () => {
+    clearInterval(timer);
+    void stopListening();
+  };
 }
