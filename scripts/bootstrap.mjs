@@ -40,15 +40,17 @@ function capture(cmd, args, options = {}) {
 }
 
 let aptUpdated = false;
-function aptInstall(packages, why) {
+/** apt-get install as root; `optional`: report failure (false) instead of stopping the bootstrap. */
+function aptInstall(packages, why, { optional = false } = {}) {
   if (!isRoot) fail(`${why}: install the Debian packages ${packages.join(' ')} (sudo apt-get install -y ${packages.join(' ')}) and run again.`);
   log(`installing ${packages.join(' ')} with apt-get (${why})`);
   const env = { ...process.env, DEBIAN_FRONTEND: 'noninteractive' };
+  const apt = (args) => (optional ? spawnSync('apt-get', args, { stdio: 'inherit', env }).status === 0 : (run('apt-get', args, { env }), true));
   if (!aptUpdated) {
-    run('apt-get', ['update'], { env });
+    if (!apt(['update'])) return false;
     aptUpdated = true;
   }
-  run('apt-get', ['install', '-y', '--no-install-recommends', ...packages], { env });
+  return apt(['install', '-y', '--no-install-recommends', ...packages]);
 }
 
 // --- npm dependencies -------------------------------------------------------------------------
@@ -60,6 +62,59 @@ function ensureNodeModules() {
   log('installing npm dependencies (npm ci)');
   run('npm', ['ci', '--no-audit', '--no-fund'], { cwd: repo });
   writeFileSync(stamp, hash);
+}
+
+// --- optional native BLAS for the estimation engine ------------------------------------------------
+// native/blas is a Node-API binding to Debian's OpenBLAS; the engine uses it when built and its pure-JS kernels
+// otherwise, so nothing here may stop the bootstrap.
+const blasDir = join(repo, 'native', 'blas');
+const blasAddon = join(blasDir, 'build', 'Release', 'loadline_blas.node');
+
+function commandExists(name) {
+  return capture('sh', ['-c', `command -v ${name}`]).status === 0;
+}
+
+function openblasDevInstalled() {
+  const status = capture('dpkg-query', ['-W', '-f=${Status}', 'libopenblas-dev']);
+  if (status.status === 0 && status.stdout.includes('install ok installed')) return true;
+  return ['/usr/include/x86_64-linux-gnu/cblas.h', '/usr/include/openblas/cblas.h'].some((h) => existsSync(h)) &&
+    ['/usr/lib/x86_64-linux-gnu/libopenblas.so', '/usr/lib/aarch64-linux-gnu/libopenblas.so', '/usr/lib64/libopenblas.so'].some((l) => existsSync(l));
+}
+
+function newestSourceTime() {
+  const files = [join(blasDir, 'binding.gyp'), ...readdirSync(join(blasDir, 'src')).map((f) => join(blasDir, 'src', f))];
+  return Math.max(...files.map((f) => statSync(f).mtimeMs));
+}
+
+function ensureNativeBlas() {
+  try {
+    if (process.env.LOADLINE_NATIVE_BLAS === '0') return;
+    if (existsSync(blasAddon) && statSync(blasAddon).mtimeMs >= newestSourceTime()) return;
+    const missing = [];
+    if (!openblasDevInstalled()) missing.push('libopenblas-dev');
+    if (!commandExists('make')) missing.push('make');
+    if (!commandExists('g++')) missing.push('g++');
+    if (!commandExists('python3')) missing.push('python3');
+    if (missing.length > 0) {
+      if (!isRoot) return log(`native BLAS skipped (needs ${missing.join(' ')}; not root): the engine uses its JS kernels`);
+      if (!aptInstall(missing, 'native BLAS for the estimation engine', { optional: true })) {
+        return log('native BLAS skipped (apt-get failed): the engine uses its JS kernels');
+      }
+    }
+    const gyp = join(repo, 'node_modules', 'node-gyp', 'bin', 'node-gyp.js');
+    if (!existsSync(gyp)) return log('native BLAS skipped (node-gyp not installed): the engine uses its JS kernels');
+    // Node's own headers when they sit beside the binary (Debian/NodeSource packages), so nothing is downloaded.
+    const prefix = resolve(dirname(process.execPath), '..');
+    const nodedir = existsSync(join(prefix, 'include', 'node', 'node_api.h')) ? [`--nodedir=${prefix}`] : [];
+    log('building the native BLAS addon (native/blas, node-gyp)');
+    const build = spawnSync(process.execPath, [gyp, 'rebuild', '--directory', blasDir, ...nodedir], { cwd: repo, encoding: 'utf8' });
+    if (build.status !== 0 || !existsSync(blasAddon)) {
+      const reason = `${build.stderr ?? ''}`.split('\n').filter((l) => /error/i.test(l)).shift()?.trim() ?? `exit ${build.status}`;
+      return log(`native BLAS build failed (${reason || `exit ${build.status}`}): the engine uses its JS kernels`);
+    }
+  } catch (error) {
+    log(`native BLAS skipped (${error?.message ?? error}): the engine uses its JS kernels`);
+  }
 }
 
 // --- PostgreSQL ---------------------------------------------------------------------------------
@@ -191,6 +246,7 @@ function tsx(script, args = [], env = {}) {
 async function main() {
   if (task === 'db:stop') return stopPostgres();
   ensureNodeModules();
+  ensureNativeBlas();
 
   const external = process.env.DATABASE_URL;
   let databaseUrl = external;
