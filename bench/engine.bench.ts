@@ -10,6 +10,7 @@ import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fitModel, type FitMethod, type FitResult } from '../server/engine/fit';
+import { nativeBlasInfo } from '../server/engine/linalg/native';
 import { plantedPanel } from '../server/engine/planted';
 
 const SIZES: [number, number][] = [
@@ -49,6 +50,8 @@ export default async function run(): Promise<void> {
   const widths = [10, 18, 9, 7, 4, 5, 8, 16, 11, 8, 9];
   console.log('Estimation engine benchmark (planted panels: 8 factors, Student-t(5) noise; L = 10; median wall time; cpu s = this process, all threads)');
   console.log(`threads: ${process.env.LOADLINE_ENGINE_THREADS ?? 'default (cores, max 4)'}; load average at start: ${loadavg().map((x) => x.toFixed(1)).join(' ')}`);
+  const blas = nativeBlasInfo();
+  console.log(`products: ${blas.active ? `native BLAS (${blas.detail})` : `JS kernels (${blas.detail})`}`);
   console.log(pad(header, widths));
   const faRows: { size: string; seconds: number; ll: number }[] = [];
   const tmp = mkdtempSync(join(tmpdir(), 'engine-bench-'));

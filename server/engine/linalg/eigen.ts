@@ -10,6 +10,7 @@
  */
 import { createRandom } from '../random';
 import { multiplyABt, multiplyABtInto, transpose } from './dense';
+import { nativeMultiplyAB } from './native';
 import { parallelMultiplyABt } from './parallel';
 
 export interface EigenResult {
@@ -434,6 +435,7 @@ export function topEigenpairs(op: SymmetricOperator, k: number, options: TopEige
 
 /** out (r × n) = Y (r × m) · Rows (m × n), through the tiled kernel on Rowsᵀ. */
 function multiplyRowsInto(y: Float64Array, r: number, m: number, rows: Float64Array, n: number, out: Float64Array): void {
+  if (nativeMultiplyAB(y.subarray(0, r * m), r, m, rows.subarray(0, m * n), n, out)) return;
   const rowsT = transpose(rows.subarray(0, m * n), m, n);
   multiplyABtInto(y, m, rowsT, n, out, n, 0, false, 0, r);
 }

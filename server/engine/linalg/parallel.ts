@@ -11,6 +11,7 @@
 import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
 import { mirrorLower, multiplyABtInto } from './dense';
+import { nativeMultiplyABt } from './native';
 
 const MIN_FLOPS = 4e6; // below this a product is not worth splitting
 
@@ -101,6 +102,9 @@ interface Part {
  * copied there (so keep the big matrices shared: sharedFloat64). `symmetric`: A Aᵀ, lower triangle then mirrored.
  */
 export function parallelMultiplyABt(a: Float64Array, m: number, k: number, b: Float64Array, n: number, symmetric = false): Float64Array {
+  // the native BLAS (when built) takes large products with its own fixed thread count; the pool is the JS path
+  const viaNative = nativeMultiplyABt(a, m, k, b, n, undefined, symmetric);
+  if (viaNative) return viaNative;
   const flops = 2 * m * n * k * (symmetric ? 0.5 : 1);
   const p = flops >= MIN_FLOPS ? getPool() : null;
   if (!p) {
