@@ -20,7 +20,7 @@ import { prepareDatabase } from '../scripts/prepare';
 import { loadPanel } from '../server/services/modelPanel';
 import { computeModelRun } from '../server/worker/fitCompute';
 import { insertRun } from '../server/services/modelRunService';
-import { insertModelResult, panelSha256 } from '../server/services/modelStore';
+import { insertModelResult, resultOfFit } from '../server/services/modelStore';
 import { ModelRunParametersSchema } from '../shared/schemas/modelRuns';
 import { DEMO_USERS } from '../server/demo/users';
 import { upsertUser } from '../server/services/authService';
@@ -98,17 +98,7 @@ async function storeRun(knex: Knex, symbols: string[], dates: string[], estimato
   return knex.transaction(async (trx) => {
     const run = await insertRun(trx, parameters, analyst, null);
     await trx('model_runs').where({ id: run.id }).update({ status: 'succeeded', finished_at: trx.fn.now(), progress_fraction: 1 });
-    await insertModelResult(trx, run.id, {
-      model: fit.model,
-      assetIds: panel.assetIds,
-      symbols: panel.symbols,
-      dates: panel.dates,
-      dataSha256: panelSha256(panel.values),
-      periodsPerYear: panel.periodsPerYear,
-      factorScores: fit.factorScores,
-      logLikelihood: fit.logLikelihood,
-      diagnostics: fit.diagnostics,
-    });
+    await insertModelResult(trx, run.id, resultOfFit(panel, fit));
     await trx('model_runs').where({ id: run.id }).update({ lifecycle: 'approved', approved_by: approver.id, approved_at: trx.fn.now(), approval_comment: 'benchmark model' });
     return run.id;
   });

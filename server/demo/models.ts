@@ -9,7 +9,7 @@ import type { Knex } from 'knex';
 import { User } from '../models/User';
 import { ModelRun } from '../models/ModelRun';
 import { loadPanel } from '../services/modelPanel';
-import { insertModelResult, panelSha256 } from '../services/modelStore';
+import { insertModelResult, resultOfFit } from '../services/modelStore';
 import { insertRun } from '../services/modelRunService';
 import { recordAudit } from '../services/auditService';
 import { computeModelRun } from '../worker/fitCompute';
@@ -34,17 +34,7 @@ export async function seedDemoModels(knex: Knex, log: (message: string) => void 
     const fit = computeModelRun({ values: panel.values, observations: panel.observations, assets: panel.assets }, parameters);
     const run = await knex.transaction(async (trx) => {
       const created = await insertRun(trx, parameters, analyst, null, { status: 'running', attempts: 1, started_at: new Date() } as Partial<ModelRun>);
-      await insertModelResult(trx, created.id, {
-        model: fit.model,
-        assetIds: panel.assetIds,
-        symbols: panel.symbols,
-        dates: panel.dates,
-        dataSha256: panelSha256(panel.values),
-        periodsPerYear: panel.periodsPerYear,
-        factorScores: fit.factorScores,
-        logLikelihood: fit.logLikelihood,
-        diagnostics: { ...fit.diagnostics, missingShare: panel.missingShare, droppedAssets: panel.droppedAssets, droppedDates: panel.droppedDates, fitSeconds: fit.engineSeconds },
-      });
+      await insertModelResult(trx, created.id, resultOfFit(panel, fit, { missingShare: panel.missingShare, droppedAssets: panel.droppedAssets, droppedDates: panel.droppedDates, fitSeconds: fit.engineSeconds }));
       const comment = 'Demo model: spectrum and Heywood flags reviewed';
       await ModelRun.query(trx)
         .patch({ status: 'succeeded', finished_at: new Date(), progress_stage: 'done', progress_fraction: 1, fit_seconds: fit.engineSeconds, lifecycle: 'approved', approved_by: approver.id, approved_at: new Date(), approval_comment: comment })

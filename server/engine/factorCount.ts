@@ -56,6 +56,29 @@ export function freeParameters(n: number, l: number, meanEstimated: boolean): nu
   return n * l + n - (l * (l - 1)) / 2 + (meanEstimated ? n : 0);
 }
 
+/**
+ * Marchenko–Pastur upper edge σ²(1 + √(N/T))² (Marchenko & Pastur 1967) for reading a sample spectrum, with the bulk
+ * variance σ² fitted by iterating σ² = (tr S − Σ_{λ > edge} λ)/(N − #above) from tr S / N (Laloux et al. 2000 fit the
+ * bulk similarly). `eigenvalues` are the top ones in decreasing order; `above` counts those over the edge.
+ */
+export function marchenkoPasturEdge(eigenvalues: ArrayLike<number>, trace: number, n: number, t: number): { edge: number; bulkVariance: number; above: number } {
+  const widen = (1 + Math.sqrt(n / t)) ** 2;
+  let sigma2 = trace / n;
+  for (let it = 0; it < 50; it++) {
+    const edge = sigma2 * widen;
+    let k = 0;
+    let top = 0;
+    while (k < eigenvalues.length && eigenvalues[k] > edge) top += eigenvalues[k++];
+    const next = (trace - top) / (n - k);
+    if (!(next > 0) || Math.abs(next - sigma2) <= 1e-14 * sigma2) break;
+    sigma2 = next;
+  }
+  const edge = sigma2 * widen;
+  let above = 0;
+  while (above < eigenvalues.length && eigenvalues[above] > edge) above++;
+  return { edge, bulkVariance: sigma2, above };
+}
+
 export function chooseFactorCount(panel: ReturnsPanel, options: FactorCountOptions, control: FitControl = {}): FactorCountResult {
   if (panelHasMissing(panel)) throw new Error('choosing the number of factors needs a complete panel (drop or fill incomplete dates first)');
   const { observations: t, assets: n } = panel;
@@ -66,21 +89,7 @@ export function chooseFactorCount(panel: ReturnsPanel, options: FactorCountOptio
   const scatter = buildScatter(panel, { mean, form: 'auto', blockWidth: lmax, expectedApplications: 100 * lmax });
   const spec = topSpectrum(scatter, Math.min(n, lmax + 1));
   const eig = Array.from(spec.values);
-  // Marchenko–Pastur edge with the bulk variance fitted iteratively.
-  const ratio = n / t;
-  let sigma2 = scatter.trace / n;
-  let above = 0;
-  for (let it = 0; it < 50; it++) {
-    const edge = sigma2 * (1 + Math.sqrt(ratio)) ** 2;
-    let k = 0;
-    let top = 0;
-    while (k < eig.length && eig[k] > edge) top += eig[k++];
-    const next = (scatter.trace - top) / (n - k);
-    above = k;
-    if (Math.abs(next - sigma2) <= 1e-14 * sigma2) break;
-    sigma2 = next;
-  }
-  const edge = sigma2 * (1 + Math.sqrt(ratio)) ** 2;
+  const { edge, bulkVariance: sigma2, above } = marchenkoPasturEdge(eig, scatter.trace, n, t);
 
   const blocks = options.heldOutBlocks ?? 5;
   const rows: FactorCountRow[] = [];

@@ -96,7 +96,8 @@ function checkPanel(panel: ReturnsPanel): void {
   }
 }
 
-function dropIncomplete(panel: ReturnsPanel): ReturnsPanel {
+/** The dates (rows) on which every asset is observed. */
+export function completeRows(panel: ReturnsPanel): ReturnsPanel {
   const { values, observations: t, assets: n } = panel;
   const rows: number[] = [];
   for (let r = 0; r < t; r++) {
@@ -104,10 +105,15 @@ function dropIncomplete(panel: ReturnsPanel): ReturnsPanel {
     for (let i = 0; i < n && ok; i++) if (Number.isNaN(values[r * n + i])) ok = false;
     if (ok) rows.push(r);
   }
-  if (rows.length < 2) throw new Error(`only ${rows.length} dates have every asset observed: too few after dropping incomplete dates`);
   const out = new Float64Array(rows.length * n);
   rows.forEach((r, k) => out.set(values.subarray(r * n, (r + 1) * n), k * n));
   return { values: out, observations: rows.length, assets: n };
+}
+
+function dropIncomplete(panel: ReturnsPanel): ReturnsPanel {
+  const complete = completeRows(panel);
+  if (complete.observations < 2) throw new Error(`only ${complete.observations} dates have every asset observed: too few after dropping incomplete dates`);
+  return complete;
 }
 
 export function fitModel(input: ReturnsPanel, options: FitOptions, control: FitControl = {}): FitResult {

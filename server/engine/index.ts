@@ -20,8 +20,8 @@ export {
   woodburyPieces,
 } from './logLikelihood';
 export { canonicalLoadings, orientFactorModel } from './orientation';
-export { chooseFactorCount, freeParameters, type FactorCountResult, type FactorCountRow, type FactorCountOptions } from './factorCount';
-export { fitModel, type FitOptions, type FitResult, type FitDiagnostics, type FitMethod, type MissingPolicy } from './fit';
+export { chooseFactorCount, freeParameters, marchenkoPasturEdge, type FactorCountResult, type FactorCountRow, type FactorCountOptions } from './factorCount';
+export { fitModel, completeRows, type FitOptions, type FitResult, type FitDiagnostics, type FitMethod, type MissingPolicy } from './fit';
 export { symmetricEigen, topEigenpairs, denseOperator, type SymmetricOperator, type EigenResult } from './linalg/eigen';
 export { cholesky, choleskySolve, choleskyLogDet, spdInverse, tryCholesky } from './linalg/cholesky';
 export { multiplyABt, multiply, multiplyAtB, rowGram, transpose, lowRankPlusDiagonal, relativeFrobenius } from './linalg/dense';

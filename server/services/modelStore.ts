@@ -32,6 +32,8 @@ import { ModelRun } from '../models/ModelRun';
 import { User } from '../models/User';
 import { conflict, notFound } from '../http/errors';
 import type { Estimator, ModelDiagnostics } from '../../shared/schemas/modelRuns';
+import type { LoadedPanel } from './modelPanel';
+import type { FitComputation } from '../worker/fitCompute';
 
 const littleEndianHost = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
 
@@ -95,6 +97,21 @@ export interface ModelResultInput {
   factorScores: Float64Array | null;
   logLikelihood: number | null;
   diagnostics: ModelDiagnostics;
+}
+
+/** The stored form of a fit of a loaded panel: one builder for every path that stores a run (worker, demo seed, tests, bench). */
+export function resultOfFit(panel: LoadedPanel, fit: FitComputation, extraDiagnostics: Partial<ModelDiagnostics> = {}, dataSha256 = panelSha256(panel.values)): ModelResultInput {
+  return {
+    model: fit.model,
+    assetIds: panel.assetIds,
+    symbols: panel.symbols,
+    dates: panel.dates,
+    dataSha256,
+    periodsPerYear: panel.periodsPerYear,
+    factorScores: fit.factorScores,
+    logLikelihood: fit.logLikelihood,
+    diagnostics: { ...fit.diagnostics, ...extraDiagnostics },
+  };
 }
 
 /** Inserts the result row (call inside the transaction that marks the run succeeded). */

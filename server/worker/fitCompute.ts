@@ -4,8 +4,8 @@
  * fitModel (server/engine/fit.ts); the number of factors, when asked to recommend, is the engine's chooseFactorCount.
  */
 import type { CovarianceModel, FitProgress, ReturnsPanel, Weighting } from '../engine/types';
-import { fitModel, type MissingPolicy } from '../engine/fit';
-import { chooseFactorCount } from '../engine/factorCount';
+import { completeRows, fitModel, type MissingPolicy } from '../engine/fit';
+import { chooseFactorCount, marchenkoPasturEdge } from '../engine/factorCount';
 import { buildScatter, panelHasMissing } from '../engine/scatter';
 import { topSpectrum } from '../engine/ppca';
 import { factorScores } from '../engine/scores';
@@ -38,38 +38,7 @@ export const STAGES: Record<string, { label: string; from: number; to: number }>
   'factor scores': { label: 'factor scores', from: 0.9, to: 0.95 },
 };
 
-/** Rows where every asset is observed (for the factor-count table, which needs a complete panel). */
-function completeRows(panel: ReturnsPanel): ReturnsPanel {
-  const { values, observations: t, assets: n } = panel;
-  const rows: number[] = [];
-  for (let r = 0; r < t; r++) {
-    let ok = true;
-    for (let i = 0; i < n && ok; i++) if (Number.isNaN(values[r * n + i])) ok = false;
-    if (ok) rows.push(r);
-  }
-  const out = new Float64Array(rows.length * n);
-  rows.forEach((r, k) => out.set(values.subarray(r * n, (r + 1) * n), k * n));
-  return { values: out, observations: rows.length, assets: n };
-}
 
-/**
- * Bulk variance and Marchenko–Pastur edge σ²(1 + √(N/T))² (Marchenko & Pastur 1967) from the top eigenvalues,
- * σ² fitted by iterating σ² = (tr S − Σ_{λ > edge} λ)/(N − #above) from tr S / N (as the engine's factorCount.ts does;
- * Laloux et al. 2000 fit the bulk similarly).
- */
-export function marchenkoPastur(eigenvalues: number[], trace: number, n: number, t: number): { edge: number; bulkVariance: number } {
-  let sigma2 = trace / n;
-  for (let it = 0; it < 50; it++) {
-    const edge = sigma2 * (1 + Math.sqrt(n / t)) ** 2;
-    let k = 0;
-    let top = 0;
-    while (k < eigenvalues.length && eigenvalues[k] > edge) top += eigenvalues[k++];
-    const next = (trace - top) / (n - k);
-    if (!(next > 0) || Math.abs(next - sigma2) <= 1e-14 * sigma2) break;
-    sigma2 = next;
-  }
-  return { edge: sigma2 * (1 + Math.sqrt(n / t)) ** 2, bulkVariance: sigma2 };
-}
 
 /** Weighted trace of the 1/T covariance over observed entries (for the bulk variance when no factor-count table ran). */
 function observedTrace(panel: ReturnsPanel, mean: Float64Array): number {
@@ -173,7 +142,7 @@ export function computeModelRun(panel: ReturnsPanel, parameters: ModelRunParamet
   let edge = recommendation.edge ?? null;
   let bulk = recommendation.bulk ?? null;
   if (edge === null && eigenvalues.length) {
-    const mp = marchenkoPastur(eigenvalues, spectrumTrace ?? (hasMissing ? observedTrace(panel, model.mean) : totalTraceOfScatter(model, totalVariance)), n, spectrumObservations);
+    const mp = marchenkoPasturEdge(eigenvalues, spectrumTrace ?? (hasMissing ? observedTrace(panel, model.mean) : totalTraceOfScatter(model, totalVariance)), n, spectrumObservations);
     edge = mp.edge;
     bulk = mp.bulkVariance;
   }

@@ -14,7 +14,7 @@ import { Model } from 'objection';
 import { ModelRun } from '../models/ModelRun';
 import { HttpError } from '../http/errors';
 import { loadPanel } from '../services/modelPanel';
-import { insertModelResult, panelSha256 } from '../services/modelStore';
+import { insertModelResult, panelSha256, resultOfFit } from '../services/modelStore';
 import { MODEL_FIT_CHANNEL, MODEL_FIT_QUEUE_OPTIONS, ensureModelFitQueue, modelFitQueue, type ModelFitJob } from '../services/modelQueue';
 import { FitCancelled, FitThreadStopped, runFit, warmFitThread } from './fitPool';
 import type { FitProgress } from '../engine/types';
@@ -144,17 +144,7 @@ export async function runModelFitJob(job: PgBoss.Job<ModelFitJob>, options: Mode
           error: null,
         });
       if (!updated) return false;
-      await insertModelResult(trx, runId, {
-        model: fit.model,
-        assetIds: panel.assetIds,
-        symbols: panel.symbols,
-        dates: panel.dates,
-        dataSha256: sha,
-        periodsPerYear: panel.periodsPerYear,
-        factorScores: fit.factorScores,
-        logLikelihood: fit.logLikelihood,
-        diagnostics: { ...fit.diagnostics, missingShare: panel.missingShare, droppedAssets: panel.droppedAssets, droppedDates: panel.droppedDates, fitSeconds: fit.engineSeconds, timings: { loadSeconds, threadSeconds, engineSeconds: fit.engineSeconds } },
-      });
+      await insertModelResult(trx, runId, resultOfFit(panel, fit, { missingShare: panel.missingShare, droppedAssets: panel.droppedAssets, droppedDates: panel.droppedDates, fitSeconds: fit.engineSeconds, timings: { loadSeconds, threadSeconds, engineSeconds: fit.engineSeconds } }, sha));
       return true;
     });
     if (!stored) {

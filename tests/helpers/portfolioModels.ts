@@ -6,7 +6,7 @@
 import type { Knex } from 'knex';
 import { loadPanel } from '../../server/services/modelPanel';
 import { insertRun } from '../../server/services/modelRunService';
-import { insertModelResult, panelSha256 } from '../../server/services/modelStore';
+import { insertModelResult, resultOfFit } from '../../server/services/modelStore';
 import { computeModelRun } from '../../server/worker/fitCompute';
 import { ModelRunParametersSchema, type Estimator } from '../../shared/schemas/modelRuns';
 import { demoUser } from './app';
@@ -40,17 +40,7 @@ export async function storeFittedRun(knex: Knex, options: { symbols: string[]; f
   return knex.transaction(async (trx) => {
     const run = await insertRun(trx, parameters, { id: analyst.id, email: analyst.email }, null);
     await trx('model_runs').where({ id: run.id }).update({ status: 'succeeded', finished_at: trx.fn.now(), progress_fraction: 1, fit_seconds: fit.engineSeconds });
-    await insertModelResult(trx, run.id, {
-      model: fit.model,
-      assetIds: panel.assetIds,
-      symbols: panel.symbols,
-      dates: panel.dates,
-      dataSha256: panelSha256(panel.values),
-      periodsPerYear: panel.periodsPerYear,
-      factorScores: fit.factorScores,
-      logLikelihood: fit.logLikelihood,
-      diagnostics: fit.diagnostics,
-    });
+    await insertModelResult(trx, run.id, resultOfFit(panel, fit));
     return { id: run.id, label: run.label };
   });
 }

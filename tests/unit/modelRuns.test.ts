@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { createHash } from 'node:crypto';
 import { decodeDoubles, encodeDoubles, panelSha256 } from '../../server/services/modelStore';
-import { computeModelRun, marchenkoPastur } from '../../server/worker/fitCompute';
+import { computeModelRun } from '../../server/worker/fitCompute';
+import { marchenkoPasturEdge as marchenkoPastur } from '../../server/engine/factorCount';
 import { plantedPanel } from '../../server/engine/planted';
 import { ModelRunParametersSchema } from '../../shared/schemas/modelRuns';
 
