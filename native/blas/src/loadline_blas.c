@@ -10,6 +10,11 @@
 #include <stddef.h>
 #include <stdint.h>
 #include <stdio.h>
+#include <stdlib.h>
+
+/* LAPACK's divide-and-conquer symmetric eigensolver, as OpenBLAS ships it (Fortran calling convention). */
+extern void dsyevd_(const char *jobz, const char *uplo, const int *n, double *a, const int *lda, double *w, double *work,
+                    const int *lwork, int *iwork, const int *liwork, int *info, size_t jobz_len, size_t uplo_len);
 
 #define CHECK(call)                                                                 \
   do {                                                                              \
@@ -136,6 +141,47 @@ static napi_value syrk(napi_env env, napi_callback_info info) {
   return NULL;
 }
 
+/*
+ * syev(n, A, w): all eigenpairs of the symmetric n × n matrix in A (row-major; both triangles hold it). On return
+ * w holds the eigenvalues in ascending order and row i of A the eigenvector of w[i] (LAPACK dsyevd). Returns info.
+ */
+static napi_value syev(napi_env env, napi_callback_info info) {
+  size_t argc = 3;
+  napi_value argv[3];
+  CHECK(napi_get_cb_info(env, info, &argc, argv, NULL, NULL));
+  if (argc != 3) {
+    napi_throw_type_error(env, NULL, "loadline_blas: syev takes 3 arguments");
+    return NULL;
+  }
+  int64_t n;
+  double *a, *w;
+  size_t la, lw;
+  if (!get_int(env, argv[0], &n, "n") || !get_f64(env, argv[1], &a, &la, "A") || !get_f64(env, argv[2], &w, &lw, "w")) return NULL;
+  if (n > 46000 || !fits(env, la, n, n, n, "A") || !fits(env, lw, 1, n, n, "w")) return NULL;
+  napi_value out;
+  if (n == 0) {
+    CHECK(napi_create_int32(env, 0, &out));
+    return out;
+  }
+  const int nn = (int)n;
+  const int lwork = 1 + 6 * nn + 2 * nn * nn;
+  const int liwork = 3 + 5 * nn;
+  double *work = malloc(sizeof(double) * (size_t)lwork);
+  int *iwork = malloc(sizeof(int) * (size_t)liwork);
+  if (!work || !iwork) {
+    free(work);
+    free(iwork);
+    napi_throw_error(env, NULL, "loadline_blas: syev could not allocate its workspace");
+    return NULL;
+  }
+  int status = 0;
+  dsyevd_("V", "L", &nn, a, &nn, w, work, &lwork, iwork, &liwork, &status, 1, 1);
+  free(work);
+  free(iwork);
+  CHECK(napi_create_int32(env, status, &out));
+  return out;
+}
+
 /* setThreads(count): OpenBLAS's thread count, fixed once at load so results are reproducible. */
 static napi_value set_threads(napi_env env, napi_callback_info info) {
   size_t argc = 1;
@@ -165,6 +211,7 @@ NAPI_MODULE_INIT() {
   napi_property_descriptor props[] = {
       {"gemm", NULL, gemm, NULL, NULL, NULL, napi_enumerable, NULL},
       {"syrk", NULL, syrk, NULL, NULL, NULL, napi_enumerable, NULL},
+      {"syev", NULL, syev, NULL, NULL, NULL, napi_enumerable, NULL},
       {"setThreads", NULL, set_threads, NULL, NULL, NULL, napi_enumerable, NULL},
       {"threads", NULL, get_threads, NULL, NULL, NULL, napi_enumerable, NULL},
       {"config", NULL, get_config, NULL, NULL, NULL, napi_enumerable, NULL},

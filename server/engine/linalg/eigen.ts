@@ -10,7 +10,7 @@
  */
 import { createRandom } from '../random';
 import { multiplyABt, multiplyABtInto, transpose } from './dense';
-import { nativeMultiplyAB } from './native';
+import { nativeMultiplyAB, nativeSymmetricEigen } from './native';
 import { parallelMultiplyABt } from './parallel';
 
 export interface EigenResult {
@@ -26,6 +26,8 @@ export interface EigenResult {
  * JAMA library), written over Float64Array.
  */
 export function symmetricEigen(input: Float64Array, n: number): EigenResult {
+  const viaLapack = nativeSymmetricEigen(input, n); // LAPACK dsyevd when the native BLAS is built (native.ts)
+  if (viaLapack) return viaLapack;
   const v = Float64Array.from(input.subarray(0, n * n));
   const d = new Float64Array(n);
   const e = new Float64Array(n);

@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { multiplyABt, multiplyABtInto, mirrorLower, relativeFrobenius } from './dense';
 import { nativeBlasInfo, nativeMultiplyAB, NATIVE_MIN_FLOPS } from './native';
 import { parallelMultiplyABt } from './parallel';
+import { symmetricEigen } from './eigen';
 import { createRandom } from '../random';
 
 function randomMatrix(rows: number, cols: number, seed: number): Float64Array {
@@ -57,5 +58,27 @@ describe(`large products (${info.active ? 'native BLAS' : 'JS kernels'}: ${info.
     expect(relativeFrobenius(ab, jsABt(a, m, k, b, n))).toBeLessThan(1e-14);
     expect(() => nativeMultiplyAB(a, m, k + 1, bt, n)).toThrow(/does not fit/);
     expect(() => nativeMultiplyAB(a, m, k, bt, n, new Float64Array(m * n - 1))).toThrow(/does not fit/);
+  });
+
+  it('symmetric eigensolver (LAPACK dsyevd on the native path): A V = V Λ, VᵀV = I, values decreasing', () => {
+    const n = 60;
+    const x = randomMatrix(n, 80, 13);
+    const s = jsABt(x, n, 80, x, n, true);
+    const { values, vectors } = symmetricEigen(s, n);
+    let scale = 0;
+    for (let i = 0; i < n * n; i++) scale = Math.max(scale, Math.abs(s[i]));
+    for (let j = 0; j < n; j++) {
+      if (j > 0) expect(values[j]).toBeLessThanOrEqual(values[j - 1]);
+      for (let i = 0; i < n; i++) {
+        let av = 0;
+        for (let p = 0; p < n; p++) av += s[i * n + p] * vectors[p * n + j];
+        expect(Math.abs(av - values[j] * vectors[i * n + j])).toBeLessThan(1e-12 * scale);
+      }
+      for (let q = 0; q <= j; q++) {
+        let d = 0;
+        for (let p = 0; p < n; p++) d += vectors[p * n + j] * vectors[p * n + q];
+        expect(Math.abs(d - (q === j ? 1 : 0))).toBeLessThan(1e-12);
+      }
+    }
   });
 });

@@ -27,10 +27,15 @@ interface BlasAddon {
     ldc: number,
   ): void;
   syrk(trans: boolean, n: number, k: number, alpha: number, a: Float64Array, lda: number, beta: number, c: Float64Array, ldc: number): void;
+  /** All eigenpairs of a symmetric matrix (LAPACK dsyevd): ascending values in w, eigenvector i in row i of a. */
+  syev?(n: number, a: Float64Array, w: Float64Array): number;
   setThreads(count: number): void;
   threads(): number;
   config(): string;
 }
+
+/** Dense symmetric eigenproblems from this order up go to LAPACK (dsyevd is about 4× the JS tred2/tql2 at n = 80–140). */
+export const NATIVE_MIN_EIGEN_ORDER = 24;
 
 /** Products below this many flops stay in JS (a native call and OpenBLAS's setup cost a few microseconds). */
 export const NATIVE_MIN_FLOPS = 1 << 17;
@@ -104,4 +109,25 @@ export function nativeMultiplyAB(a: Float64Array, m: number, k: number, b: Float
   const c = out ?? new Float64Array(m * n);
   blas.gemm(false, false, m, n, k, 1, a, k, b, n, 0, c, n);
   return c;
+}
+
+/**
+ * All eigenpairs of a symmetric n × n matrix (row-major), values in decreasing order and eigenvectors as the columns
+ * of an n × n row-major matrix (symmetricEigen's layout), by LAPACK's dsyevd; null when small, unavailable or failed.
+ */
+export function nativeSymmetricEigen(input: Float64Array, n: number): { values: Float64Array; vectors: Float64Array } | null {
+  if (n < NATIVE_MIN_EIGEN_ORDER) return null;
+  const blas = load();
+  if (!blas || typeof blas.syev !== 'function') return null;
+  const z = Float64Array.from(input.subarray(0, n * n));
+  const w = new Float64Array(n);
+  if (blas.syev(n, z, w) !== 0) return null;
+  const values = new Float64Array(n);
+  const vectors = new Float64Array(n * n);
+  for (let dst = 0; dst < n; dst++) {
+    const src = n - 1 - dst;
+    values[dst] = w[src];
+    for (let k = 0; k < n; k++) vectors[k * n + dst] = z[src * n + k];
+  }
+  return { values, vectors };
 }
