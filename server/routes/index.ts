@@ -10,6 +10,7 @@ import { auditRoutes } from './audit';
 import { outboxRoutes } from './outbox';
 import { portfoliosRoutes } from './portfolios';
 import { modelRunRoutes } from './modelRuns';
+import { assetListsRoutes } from './assetLists';
 
 /** Every feature's API router, in one list: add a line here when a feature adds routes. */
 export function apiRouters(config: Config) {
@@ -21,6 +22,7 @@ export function apiRouters(config: Config) {
     outboxRoutes(),
     portfoliosRoutes(),
     modelRunRoutes(config),
+    assetListsRoutes(),
     importRoutes(config),
     assetRoutes(config),
     dataQualityRoutes(),

@@ -8,6 +8,7 @@ import { to as copyTo } from 'pg-copy-streams';
 import { unprocessable } from '../http/errors';
 import type { EstimationWindow, MissingPolicy, Universe } from '../../shared/schemas/modelRuns';
 import { MIN_OBSERVATIONS_PER_ASSET } from '../../shared/schemas/modelRuns';
+import { assetListMembers } from './assetListsService';
 
 export interface UniverseAsset {
   id: number;
@@ -28,7 +29,7 @@ export interface LoadedPanel {
   droppedDates: number;
 }
 
-/** The assets a universe names, ordered by symbol. Unknown symbols or sectors are a 422 naming them. */
+/** The assets a universe names, ordered by symbol. Unknown symbols, sectors or lists are a 422 naming them. */
 export async function resolveUniverse(db: Knex | Knex.Transaction, universe: Universe): Promise<UniverseAsset[]> {
   if (universe.kind === 'all') {
     return db('assets').select('id', 'symbol').whereExists(db('return_observations').select(db.raw('1')).whereRaw('return_observations.asset_id = assets.id')).orderBy('symbol');
@@ -38,6 +39,11 @@ export async function resolveUniverse(db: Knex | Knex.Transaction, universe: Uni
     const missing = universe.sectors.filter((s) => !rows.some((r) => r.sector === s));
     if (missing.length) throw unprocessable(`No assets in sector ${missing.map((s) => `"${s}"`).join(', ')}`, missing.map((s) => ({ path: 'universe.sectors', message: `no assets in sector "${s}"` })));
     return rows.map(({ id, symbol }) => ({ id, symbol }));
+  }
+  if (universe.kind === 'list') {
+    const members = await assetListMembers(db, universe.listId);
+    if (!members) throw unprocessable(`No saved asset list ${universe.listId}`, [{ path: 'universe.listId', message: `no saved asset list ${universe.listId}` }]);
+    return members;
   }
   const wanted = [...new Set(universe.symbols.map((s) => s.trim()))];
   const rows: UniverseAsset[] = await db('assets').select('id', 'symbol').whereIn('symbol', wanted).orderBy('symbol');

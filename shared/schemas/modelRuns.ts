@@ -21,6 +21,8 @@ export const UniverseSchema = z.discriminatedUnion('kind', [
   z.object({ kind: z.literal('all') }),
   z.object({ kind: z.literal('sectors'), sectors: z.array(z.string().min(1)).min(1, 'choose at least one sector') }),
   z.object({ kind: z.literal('assets'), symbols: z.array(z.string().min(1)).min(2, 'list at least two symbols') }),
+  /** A saved asset list (shared/schemas/assetLists.ts). */
+  z.object({ kind: z.literal('list'), listId: z.number().int('choose a saved list').positive('choose a saved list') }),
 ]);
 export type Universe = z.infer<typeof UniverseSchema>;
 

@@ -48,6 +48,11 @@ const TABLE: [string, Allowed][] = [
   ['POST /api/model-runs/:id/cancel', ['analyst', 'admin']],
   ['POST /api/model-runs/:id/approve', ['analyst', 'admin']],
   ['POST /api/model-runs/:id/retire', ['analyst', 'admin']],
+  // Saved asset lists (a run's universe; everyone signed in reads, the owner or an admin deletes)
+  ['GET /api/asset-lists', 'signed-in'],
+  ['GET /api/asset-lists/:id', 'signed-in'],
+  ['POST /api/asset-lists', ['analyst', 'admin']],
+  ['DELETE /api/asset-lists/:id', ['analyst', 'admin']],
   // Return-series imports (analyst and admin import; everyone signed in reads)
   ['POST /api/imports', ['analyst', 'admin']],
   ['POST /api/imports/:id/commit', ['analyst', 'admin']],

@@ -1,0 +1,187 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import request from 'supertest';
+import type { Knex } from 'knex';
+import type PgBoss from 'pg-boss';
+import { testContext, signIn, unique } from '../helpers/app';
+import { createBoss } from '../../server/worker/boss';
+import { registerModelFitJobs } from '../../server/worker/modelRunJob';
+import { stopFitThread } from '../../server/worker/fitPool';
+import { stopQueueSenders, useModelFitQueue } from '../../server/services/modelQueue';
+import { plantedPanel } from '../../server/engine/planted';
+
+/**
+ * Saved asset lists and their use as a model run's universe, against the real app, the real test database, a real
+ * pg-boss and the real job handler in this process (as tests/api/modelRuns.test.ts does). Returns are invented
+ * planted-factor panels under unique symbols.
+ */
+useModelFitQueue(unique('model-fit-lists-'));
+const ctx = testContext();
+let boss: PgBoss | undefined;
+let stopSweep: () => void = () => {};
+const tokens: Record<string, string> = {};
+
+function businessDays(count: number, start = '2019-01-01'): string[] {
+  const out: string[] = [];
+  const d = new Date(`${start}T00:00:00Z`);
+  while (out.length < count) {
+    const day = d.getUTCDay();
+    if (day !== 0 && day !== 6) out.push(d.toISOString().slice(0, 10));
+    d.setUTCDate(d.getUTCDate() + 1);
+  }
+  return out;
+}
+
+async function insertPanel(knex: Knex, prefix: string, values: Float64Array, t: number, n: number): Promise<string[]> {
+  const dates = businessDays(t);
+  const symbols = Array.from({ length: n }, (_, i) => `${prefix}${String(i).padStart(4, '0')}`);
+  const assets: { id: number; symbol: string }[] = await knex('assets')
+    .insert(symbols.map((symbol) => ({ symbol, name: `Invented asset ${symbol}`, sector: 'Test sector' })))
+    .returning(['id', 'symbol']);
+  const idOf = new Map(assets.map((a) => [a.symbol, a.id]));
+  const ids: number[] = [];
+  const ds: string[] = [];
+  const vs: number[] = [];
+  for (let r = 0; r < t; r++) for (let i = 0; i < n; i++) {
+    ids.push(idOf.get(symbols[i])!);
+    ds.push(dates[r]);
+    vs.push(values[r * n + i]);
+  }
+  await knex.raw('INSERT INTO return_observations (asset_id, date, value) SELECT * FROM unnest(?::int[], ?::date[], ?::float8[])', [ids, ds, vs]);
+  return symbols;
+}
+
+const as = (role: string) => ({ Authorization: `Bearer ${tokens[role]}` });
+
+beforeAll(async () => {
+  for (const role of ['analyst', 'analyst2', 'admin', 'pm'] as const) {
+    tokens[role] = await signIn(ctx.app, role === 'analyst2' ? { email: 'analyst2@quillfield.example', password: 'demo-analyst-pass' } : role);
+  }
+}, 60_000);
+
+afterAll(async () => {
+  stopSweep();
+  await boss?.stop({ graceful: false, wait: true }).catch(() => undefined);
+  await stopQueueSenders();
+  await stopFitThread();
+  await ctx.close();
+}, 30_000);
+
+describe('saved asset lists', () => {
+  it('creates a list, reads it back in the order entered, lists it, and audits it', async () => {
+    const planted = plantedPanel({ assets: 4, observations: 40, factors: 1, seed: 31 });
+    const symbols = await insertPanel(ctx.knex, unique('AL'), planted.panel.values, 40, 4);
+    const name = unique('Core names ');
+    const entered = [symbols[2], symbols[0], symbols[3]];
+    const created = await request(ctx.app).post('/api/asset-lists').set(as('analyst')).send({ name, description: 'three of four', symbols: entered });
+    expect(created.status).toBe(201);
+    expect(created.body.name).toBe(name);
+    expect(created.body.size).toBe(3);
+    expect(created.body.canDelete).toBe(true);
+    expect(created.body.assets.map((a: { symbol: string }) => a.symbol)).toEqual(entered);
+
+    const list = await request(ctx.app).get('/api/asset-lists').set(as('pm'));
+    expect(list.status).toBe(200);
+    const mine = list.body.lists.find((l: { id: number }) => l.id === created.body.id);
+    expect(mine).toMatchObject({ name, size: 3, canDelete: false, owner: { email: 'analyst@quillfield.example' } });
+
+    const audit = await ctx.knex('audit_events').where({ action: 'asset-list.created', object_id: String(created.body.id) });
+    expect(audit).toHaveLength(1);
+    expect(audit[0].details).toEqual({ name, size: 3 });
+
+    const sameName = await request(ctx.app).post('/api/asset-lists').set(as('analyst')).send({ name: name.toUpperCase(), symbols: entered });
+    expect(sameName.status).toBe(409);
+    expect(sameName.body.issues).toEqual([{ path: 'name', message: `you already have a list named "${name}"` }]);
+
+    const pm = await request(ctx.app).post('/api/asset-lists').set(as('pm')).send({ name: unique('pm list '), symbols: entered });
+    expect(pm.status).toBe(403);
+  });
+
+  it('refuses unknown and repeated symbols, naming row and symbol, and stores nothing', async () => {
+    const planted = plantedPanel({ assets: 3, observations: 40, factors: 1, seed: 32 });
+    const symbols = await insertPanel(ctx.knex, unique('AB'), planted.panel.values, 40, 3);
+    const name = unique('Broken list ');
+    const before = await ctx.knex('asset_list_members').count<{ count: string }[]>({ count: '*' }).first();
+    const res = await request(ctx.app)
+      .post('/api/asset-lists')
+      .set(as('analyst'))
+      .send({ name, symbols: [symbols[0], 'NOSUCH-LIST-SYMBOL', symbols[1], symbols[0]] });
+    expect(res.status).toBe(422);
+    expect(res.body.issues).toEqual([
+      { path: 'symbols.1', message: 'row 2: unknown symbol NOSUCH-LIST-SYMBOL' },
+      { path: 'symbols.3', message: `row 4: duplicate symbol ${symbols[0]} (also row 1)` },
+    ]);
+    expect(res.body.error).toMatch(/NOSUCH-LIST-SYMBOL/);
+    expect(await ctx.knex('asset_lists').where({ name })).toHaveLength(0);
+    const after = await ctx.knex('asset_list_members').count<{ count: string }[]>({ count: '*' }).first();
+    // Other files may add lists meanwhile; none of this request's rows may exist.
+    expect(Number(after?.count)).toBeGreaterThanOrEqual(Number(before?.count));
+    expect(await ctx.knex('asset_list_members as m').join('assets as a', 'a.id', 'm.asset_id').whereIn('a.symbol', symbols)).toHaveLength(0);
+    expect(await ctx.knex('audit_events').where({ action: 'asset-list.created' }).whereRaw(`details->>'name' = ?`, [name])).toHaveLength(0);
+
+    const tooShort = await request(ctx.app).post('/api/asset-lists').set(as('analyst')).send({ name, symbols: [symbols[0]] });
+    expect(tooShort.status).toBe(422);
+    expect(tooShort.body.issues[0].path).toBe('symbols');
+  });
+
+  it('lets only the owner or an admin delete a list, and audits it', async () => {
+    const planted = plantedPanel({ assets: 2, observations: 40, factors: 1, seed: 33 });
+    const symbols = await insertPanel(ctx.knex, unique('AD'), planted.panel.values, 40, 2);
+    const created = await request(ctx.app).post('/api/asset-lists').set(as('analyst')).send({ name: unique('Short-lived '), symbols });
+    expect(created.status).toBe(201);
+    const other = await request(ctx.app).delete(`/api/asset-lists/${created.body.id}`).set(as('analyst2'));
+    expect(other.status).toBe(403);
+    const own = await request(ctx.app).delete(`/api/asset-lists/${created.body.id}`).set(as('analyst'));
+    expect(own.status).toBe(200);
+    expect(await ctx.knex('asset_lists').where({ id: created.body.id })).toHaveLength(0);
+    expect(await ctx.knex('asset_list_members').where({ list_id: created.body.id })).toHaveLength(0);
+    expect(await ctx.knex('audit_events').where({ action: 'asset-list.deleted', object_id: String(created.body.id) })).toHaveLength(1);
+    expect((await request(ctx.app).get(`/api/asset-lists/${created.body.id}`).set(as('pm'))).status).toBe(404);
+  });
+});
+
+describe('a model run over a saved list', () => {
+  beforeAll(async () => {
+    boss = createBoss(ctx.config.databaseUrl);
+    await boss.start();
+    stopSweep = await registerModelFitJobs(boss, { staleSeconds: 3, sweepMs: 500, heartbeatMs: 250, log: () => {} });
+  }, 60_000);
+
+  it('refuses an unknown list, naming universe.listId', async () => {
+    const res = await request(ctx.app).post('/api/model-runs').set(as('analyst')).send({ universe: { kind: 'list', listId: 2_000_000_000 }, window: { kind: 'last', observations: 60 }, estimator: 'sample' });
+    expect(res.status).toBe(422);
+    expect(res.body.issues).toEqual([{ path: 'universe.listId', message: 'no saved asset list 2000000000' }]);
+  });
+
+  it('fits the list’s assets (and only those) through the queue and the worker', async () => {
+    const t = 120;
+    const n = 10;
+    const planted = plantedPanel({ assets: n, observations: t, factors: 2, seed: 34 });
+    const symbols = await insertPanel(ctx.knex, unique('AM'), planted.panel.values, t, n);
+    const chosen = symbols.slice(0, 8).reverse(); // leave two out; order as entered does not matter to the fit
+    const list = await request(ctx.app).post('/api/asset-lists').set(as('analyst')).send({ name: unique('Fit list '), symbols: chosen });
+    expect(list.status).toBe(201);
+
+    const tooMany = await request(ctx.app).post('/api/model-runs').set(as('analyst')).send({ universe: { kind: 'list', listId: list.body.id }, window: { kind: 'last', observations: t }, estimator: 'fa', factors: 8 });
+    expect(tooMany.status).toBe(422);
+    expect(tooMany.body.issues).toEqual([{ path: 'factors', message: 'must be below the number of assets (8)' }]);
+
+    const created = await request(ctx.app).post('/api/model-runs').set(as('analyst')).send({ universe: { kind: 'list', listId: list.body.id }, window: { kind: 'last', observations: t }, estimator: 'fa', factors: 2 });
+    expect(created.status).toBe(201);
+    expect(created.body.parameters.universe).toEqual({ kind: 'list', listId: list.body.id });
+    const until = Date.now() + 60_000;
+    let run = created.body;
+    while (!['succeeded', 'failed', 'cancelled'].includes(run.status) && Date.now() < until) {
+      await new Promise((r) => setTimeout(r, 100));
+      run = (await request(ctx.app).get(`/api/model-runs/${created.body.id}`).set(as('analyst'))).body;
+    }
+    expect(run.error).toBeNull();
+    expect(run.status).toBe('succeeded');
+    expect(run.summary).toMatchObject({ assets: 8, observations: t, factors: 2 });
+    const loadings = await request(ctx.app).get(`/api/model-runs/${created.body.id}/loadings`).set(as('analyst'));
+    expect(loadings.status).toBe(200);
+    expect(JSON.stringify(loadings.body)).not.toContain(symbols[9]);
+    const result = await ctx.knex('model_results').where({ run_id: created.body.id }).first();
+    const ids = (await ctx.knex('assets').whereIn('symbol', chosen).orderBy('symbol').select('id')).map((r: { id: number }) => r.id);
+    expect(result.asset_ids).toEqual(ids);
+  }, 90_000);
+});
