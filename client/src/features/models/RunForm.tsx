@@ -1,4 +1,4 @@
-import { useMemo } from 'react';
+import { useMemo, useState } from 'react';
 import { useForm, useWatch } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { z } from 'zod';
@@ -11,19 +11,23 @@ import {
   type ModelRunParametersInput,
 } from '@shared/schemas/modelRuns';
 import type { Asset } from '@shared/schemas/assets';
+import type { AssetListSummary } from '@shared/schemas/assetLists';
 import { Field } from '../../components/Field';
 import { Button } from '../../components/Button';
 import { ErrorAlert } from '../../components/Alert';
 import { useAssetsForUniverse, useCreateRun } from './api';
+import { useAssetLists, useCreateAssetList } from '../asset-lists/api';
+import { ApiError, errorMessage } from '../../lib/api';
 
 const splitSymbols = (text: string) => [...new Set(text.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean))];
 
 /** The form's own flat shape; it becomes ModelRunParameters on submit. Rules that need the asset list sit in the factory. */
-function formSchema(assets: Asset[]) {
+function formSchema(assets: Asset[], lists: AssetListSummary[]) {
   return z
     .object({
       label: z.string().max(60, 'at most 60 characters'),
-      universeKind: z.enum(['all', 'sectors', 'assets']),
+      universeKind: z.enum(['all', 'sectors', 'assets', 'list']),
+      listId: z.string(),
       sectors: z.array(z.string()),
       symbols: z.string(),
       windowKind: z.enum(['last', 'dates']),
@@ -53,6 +57,11 @@ function formSchema(assets: Asset[]) {
         else if (unknown.length) issue('symbols', `unknown symbol${unknown.length > 1 ? 's' : ''}: ${unknown.slice(0, 5).join(', ')}`);
         universeSize = symbols.length;
       }
+      if (v.universeKind === 'list') {
+        const list = lists.find((l) => String(l.id) === v.listId);
+        if (!list) issue('listId', 'choose a saved list');
+        universeSize = list?.size ?? 0;
+      }
       if (v.windowKind === 'last' && v.lastN < MIN_OBSERVATIONS_PER_ASSET) issue('lastN', `the window needs at least ${MIN_OBSERVATIONS_PER_ASSET} observations per asset`);
       if (v.windowKind === 'dates') {
         if (!/^\d{4}-\d{2}-\d{2}$/.test(v.from)) issue('from', 'choose a start date');
@@ -72,6 +81,7 @@ type FormValues = z.infer<ReturnType<typeof formSchema>>;
 const DEFAULTS: FormValues = {
   label: '',
   universeKind: 'all',
+  listId: '',
   sectors: [],
   symbols: '',
   windowKind: 'last',
@@ -91,7 +101,14 @@ function toParameters(v: FormValues): ModelRunParametersInput {
   const isFactor = v.estimator === 'fa' || v.estimator === 'ppca';
   return {
     ...(v.label.trim() ? { label: v.label.trim() } : {}),
-    universe: v.universeKind === 'all' ? { kind: 'all' } : v.universeKind === 'sectors' ? { kind: 'sectors', sectors: v.sectors } : { kind: 'assets', symbols: splitSymbols(v.symbols) },
+    universe:
+      v.universeKind === 'all'
+        ? { kind: 'all' }
+        : v.universeKind === 'sectors'
+          ? { kind: 'sectors', sectors: v.sectors }
+          : v.universeKind === 'list'
+            ? { kind: 'list', listId: Number(v.listId) }
+            : { kind: 'assets', symbols: splitSymbols(v.symbols) },
     window: v.windowKind === 'last' ? { kind: 'last', observations: v.lastN } : { kind: 'dates', from: v.from, to: v.to },
     weighting: v.weighting === 'equal' ? { kind: 'equal' } : { kind: 'exponential', halfLife: v.halfLife },
     mean: v.mean,
@@ -105,6 +122,7 @@ function toParameters(v: FormValues): ModelRunParametersInput {
 const ISSUE_FIELD: Record<string, keyof FormValues> = {
   'universe.symbols': 'symbols',
   'universe.sectors': 'sectors',
+  'universe.listId': 'listId',
   universe: 'universeKind',
   window: 'windowKind',
   'window.observations': 'lastN',
@@ -117,8 +135,12 @@ const ISSUE_FIELD: Record<string, keyof FormValues> = {
 export function RunForm({ onQueued }: { onQueued: (run: ModelRun) => void }) {
   const assets = useAssetsForUniverse();
   const create = useCreateRun();
+  const savedLists = useAssetLists();
+  const saveList = useCreateAssetList();
+  const [listName, setListName] = useState('');
   const assetList = useMemo(() => assets.data ?? [], [assets.data]);
-  const schema = useMemo(() => formSchema(assetList), [assetList]);
+  const lists = useMemo(() => savedLists.data ?? [], [savedLists.data]);
+  const schema = useMemo(() => formSchema(assetList, lists), [assetList, lists]);
   const form = useForm<FormValues>({ resolver: zodResolver(schema), defaultValues: DEFAULTS });
   const { errors } = form.formState;
   const values = useWatch({ control: form.control }) as FormValues;
@@ -149,8 +171,21 @@ export function RunForm({ onQueued }: { onQueued: (run: ModelRun) => void }) {
               <option value="all">All assets with returns ({assetList.length})</option>
               <option value="sectors">By sector</option>
               <option value="assets">A list of symbols</option>
+              <option value="list">Saved list</option>
             </select>
           </Field>
+          {values.universeKind === 'list' ? (
+            <Field label="Saved list" error={errors.listId?.message} hint={savedLists.isError ? errorMessage(savedLists.error) : lists.length ? undefined : 'No saved lists yet: type symbols and save them as a list.'}>
+              <select className="field-input" {...form.register('listId')}>
+                <option value="">Choose a list…</option>
+                {lists.map((l) => (
+                  <option key={l.id} value={String(l.id)}>
+                    {l.name} ({l.size} assets, {l.owner.name})
+                  </option>
+                ))}
+              </select>
+            </Field>
+          ) : null}
           {values.universeKind === 'sectors' ? (
             <Field label="Sectors" error={errors.sectors?.message} hint="Hold Ctrl or ⌘ to choose several.">
               <select multiple className="field-input h-28" {...form.register('sectors')}>
@@ -166,6 +201,42 @@ export function RunForm({ onQueued }: { onQueued: (run: ModelRun) => void }) {
             <Field label="Symbols" error={errors.symbols?.message} hint="Separated by commas, spaces or new lines.">
               <textarea rows={3} className="field-input font-mono" {...form.register('symbols')} />
             </Field>
+          ) : null}
+          {values.universeKind === 'assets' ? (
+            <div className="flex flex-col gap-1">
+              <div className="flex items-end gap-2">
+                <Field label="Name for a saved list" className="flex-1">
+                  <input className="field-input" placeholder="List name" value={listName} onChange={(e) => setListName(e.target.value)} onKeyDown={(e) => e.key === 'Enter' && e.preventDefault()} />
+                </Field>
+                <Button
+                  size="sm"
+                  disabled={saveList.isPending || !listName.trim() || splitSymbols(values.symbols ?? '').length < 2}
+                  onClick={() =>
+                    saveList.mutate(
+                      { name: listName.trim(), symbols: splitSymbols(values.symbols ?? '') },
+                      {
+                        onSuccess: (saved) => {
+                          setListName('');
+                          form.setValue('listId', String(saved.id));
+                        },
+                      },
+                    )
+                  }
+                >
+                  {saveList.isPending ? 'Saving…' : 'Save list'}
+                </Button>
+              </div>
+              {saveList.isError ? (
+                <p role="alert" className="text-xs font-medium text-breach">
+                  {saveList.error instanceof ApiError && saveList.error.issues?.length ? saveList.error.issues.map((i) => i.message).join('; ') : errorMessage(saveList.error)}
+                </p>
+              ) : null}
+              {saveList.isSuccess && !saveList.isPending ? (
+                <p role="status" className="text-xs text-ink-soft">
+                  Saved as “{saveList.data.name}” ({saveList.data.size} assets); choose “Saved list” to use it.
+                </p>
+              ) : null}
+            </div>
           ) : null}
           <Field label="Version label (optional)" error={errors.label?.message}>
             <input className="field-input" {...form.register('label')} />
