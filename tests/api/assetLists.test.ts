@@ -1,8 +1,8 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
-import type { Knex } from 'knex';
 import type PgBoss from 'pg-boss';
 import { testContext, signIn, unique } from '../helpers/app';
+import { insertPanel } from '../helpers/returns';
 import { createBoss } from '../../server/worker/boss';
 import { registerModelFitJobs } from '../../server/worker/modelRunJob';
 import { stopFitThread } from '../../server/worker/fitPool';
@@ -19,36 +19,6 @@ const ctx = testContext();
 let boss: PgBoss | undefined;
 let stopSweep: () => void = () => {};
 const tokens: Record<string, string> = {};
-
-function businessDays(count: number, start = '2019-01-01'): string[] {
-  const out: string[] = [];
-  const d = new Date(`${start}T00:00:00Z`);
-  while (out.length < count) {
-    const day = d.getUTCDay();
-    if (day !== 0 && day !== 6) out.push(d.toISOString().slice(0, 10));
-    d.setUTCDate(d.getUTCDate() + 1);
-  }
-  return out;
-}
-
-async function insertPanel(knex: Knex, prefix: string, values: Float64Array, t: number, n: number): Promise<string[]> {
-  const dates = businessDays(t);
-  const symbols = Array.from({ length: n }, (_, i) => `${prefix}${String(i).padStart(4, '0')}`);
-  const assets: { id: number; symbol: string }[] = await knex('assets')
-    .insert(symbols.map((symbol) => ({ symbol, name: `Invented asset ${symbol}`, sector: 'Test sector' })))
-    .returning(['id', 'symbol']);
-  const idOf = new Map(assets.map((a) => [a.symbol, a.id]));
-  const ids: number[] = [];
-  const ds: string[] = [];
-  const vs: number[] = [];
-  for (let r = 0; r < t; r++) for (let i = 0; i < n; i++) {
-    ids.push(idOf.get(symbols[i])!);
-    ds.push(dates[r]);
-    vs.push(values[r * n + i]);
-  }
-  await knex.raw('INSERT INTO return_observations (asset_id, date, value) SELECT * FROM unnest(?::int[], ?::date[], ?::float8[])', [ids, ds, vs]);
-  return symbols;
-}
 
 const as = (role: string) => ({ Authorization: `Bearer ${tokens[role]}` });
 

@@ -9,6 +9,7 @@ import { createBoss } from '../../server/worker/boss';
 import { registerModelFitJobs } from '../../server/worker/modelRunJob';
 import { stopFitThread } from '../../server/worker/fitPool';
 import { stopQueueSenders, useModelFitQueue } from '../../server/services/modelQueue';
+import { businessDays } from '../helpers/returns';
 
 /**
  * An analyst starts a fit in the browser and watches its progress bar reach the end; a second analyst approves it.
@@ -30,19 +31,9 @@ let boss: PgBoss;
 let stopSweep = () => {};
 let assetIds: number[] = [];
 
-function businessDays(count: number): string[] {
-  const out: string[] = [];
-  const d = new Date('2021-01-04T00:00:00Z');
-  while (out.length < count) {
-    if (d.getUTCDay() !== 0 && d.getUTCDay() !== 6) out.push(d.toISOString().slice(0, 10));
-    d.setUTCDate(d.getUTCDate() + 1);
-  }
-  return out;
-}
-
 beforeAll(async () => {
   const planted = plantedPanel({ assets: N, observations: T, factors: 3, seed: 77, noise: 'student-t' });
-  const dates = businessDays(T);
+  const dates = businessDays(T, '2021-01-04');
   const rows = await knex('assets')
     .insert(symbols.map((symbol) => ({ symbol, name: `Invented holding ${symbol}`, sector: 'Browser test' })))
     .returning(['id', 'symbol']);
