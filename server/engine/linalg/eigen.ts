@@ -320,27 +320,9 @@ export function topEigenpairs(op: SymmetricOperator, k: number, options: TopEige
     const img = op.apply(q.subarray(0, b * n), b);
     applications += b;
     aq.set(img, 0);
-    const h0 = multiplyABt(q.subarray(0, b * n), b, n, img, b);
-    for (let i = 0; i < b; i++) for (let j = 0; j < i; j++) {
-      const v = 0.5 * (h0[i * b + j] + h0[j * b + i]);
-      h0[i * b + j] = v;
-      h0[j * b + i] = v;
-    }
-    const small0 = symmetricEigen(h0, b);
-    const y0 = transpose(small0.vectors, b, b).subarray(0, k * b);
-    const ritz0 = new Float64Array(k * n);
-    const img0 = new Float64Array(k * n);
-    multiplyRowsInto(y0, k, b, q, n, ritz0);
-    multiplyRowsInto(y0, k, b, aq, n, img0);
-    const scale0 = Math.max(Math.abs(small0.values[0]), 1e-300);
-    let worst = 0;
-    for (let j = 0; j < Math.min(k, options.convergeCount ?? k); j++) {
-      let r = 0;
-      for (let i = 0; i < n; i++) r += (img0[j * n + i] - small0.values[j] * ritz0[j * n + i]) ** 2;
-      worst = Math.max(worst, Math.sqrt(r) / scale0);
-    }
-    if (worst <= tol) {
-      return { values: small0.values.slice(0, k), vectors: transpose(ritz0, k, n), restarts: 0, operatorApplications: applications, maxResidual: worst };
+    const first = ritzCheck(b);
+    if (first.maxResidual <= tol) {
+      return { values: first.values, vectors: transpose(first.vectorsT, k, n), restarts: 0, operatorApplications: applications, maxResidual: first.maxResidual };
     }
   }
   let values = new Float64Array(k);
