@@ -1,12 +1,9 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
-import type PgBoss from 'pg-boss';
-import { testContext, signIn, unique } from '../helpers/app';
+import { testContext, unique } from '../helpers/app';
+import { inProcessModelWorker, modelRunTokens } from '../helpers/modelWorker';
 import { insertPanel } from '../helpers/returns';
-import { createBoss } from '../../server/worker/boss';
-import { registerModelFitJobs } from '../../server/worker/modelRunJob';
-import { stopFitThread } from '../../server/worker/fitPool';
-import { stopQueueSenders, useModelFitQueue } from '../../server/services/modelQueue';
+import { useModelFitQueue } from '../../server/services/modelQueue';
 import { plantedPanel } from '../../server/engine/planted';
 
 /**
@@ -16,23 +13,17 @@ import { plantedPanel } from '../../server/engine/planted';
  */
 useModelFitQueue(unique('model-fit-lists-'));
 const ctx = testContext();
-let boss: PgBoss | undefined;
-let stopSweep: () => void = () => {};
-const tokens: Record<string, string> = {};
+const worker = inProcessModelWorker(ctx.config.databaseUrl);
+let tokens: Record<string, string> = {};
 
 const as = (role: string) => ({ Authorization: `Bearer ${tokens[role]}` });
 
 beforeAll(async () => {
-  for (const role of ['analyst', 'analyst2', 'admin', 'pm'] as const) {
-    tokens[role] = await signIn(ctx.app, role === 'analyst2' ? { email: 'analyst2@quillfield.example', password: 'demo-analyst-pass' } : role);
-  }
+  tokens = await modelRunTokens(ctx.app);
 }, 60_000);
 
 afterAll(async () => {
-  stopSweep();
-  await boss?.stop({ graceful: false, wait: true }).catch(() => undefined);
-  await stopQueueSenders();
-  await stopFitThread();
+  await worker.stop();
   await ctx.close();
 }, 30_000);
 
@@ -125,9 +116,7 @@ describe('a run queued over a list that is then deleted (no worker yet)', () => 
 
 describe('a model run over a saved list', () => {
   beforeAll(async () => {
-    boss = createBoss(ctx.config.databaseUrl);
-    await boss.start();
-    stopSweep = await registerModelFitJobs(boss, { staleSeconds: 3, sweepMs: 500, heartbeatMs: 250, log: () => {} });
+    await worker.start();
   }, 60_000);
 
   it('fails the run whose list was deleted before a worker took it, saying why', async () => {

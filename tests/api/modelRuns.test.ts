@@ -2,12 +2,11 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
 import { spawn, type ChildProcess } from 'node:child_process';
 import type PgBoss from 'pg-boss';
-import { testContext, signIn, unique } from '../helpers/app';
+import { testContext, unique } from '../helpers/app';
+import { inProcessModelWorker, modelRunTokens } from '../helpers/modelWorker';
 import { businessDays, insertPanel } from '../helpers/returns';
-import { createBoss } from '../../server/worker/boss';
 import { bindModels } from '../../server/db/knex';
-import { registerModelFitJobs, WORKER_NAME } from '../../server/worker/modelRunJob';
-import { stopFitThread } from '../../server/worker/fitPool';
+import { WORKER_NAME } from '../../server/worker/modelRunJob';
 import { modelFitQueue, stopQueueSenders, useModelFitQueue } from '../../server/services/modelQueue';
 import { loadModel, panelSha256 } from '../../server/services/modelStore';
 import { plantedPanel } from '../../server/engine/planted';
@@ -21,9 +20,9 @@ import { paths } from '../../server/config';
 // This file's own queue: workers of other test files running at the same time never take its jobs.
 useModelFitQueue(unique('model-fit-api-'));
 const ctx = testContext();
+const worker = inProcessModelWorker(ctx.config.databaseUrl);
 let boss: PgBoss;
-let stopSweep: () => void = () => {};
-const tokens: Record<string, string> = {};
+let tokens: Record<string, string> = {};
 
 async function waitFor<T>(what: string, probe: () => Promise<T | undefined | null | false>, timeoutMs = 60_000, everyMs = 50): Promise<T> {
   const until = Date.now() + timeoutMs;
@@ -38,22 +37,15 @@ async function waitFor<T>(what: string, probe: () => Promise<T | undefined | nul
 const getRun = (id: number) => request(ctx.app).get(`/api/model-runs/${id}`).set('Authorization', `Bearer ${tokens.analyst}`);
 
 async function startInProcessWorker() {
-  boss = createBoss(ctx.config.databaseUrl);
-  await boss.start();
-  stopSweep = await registerModelFitJobs(boss, { staleSeconds: 3, sweepMs: 500, heartbeatMs: 250, log: () => {} });
+  boss = await worker.start();
 }
 
 beforeAll(async () => {
-  for (const role of ['analyst', 'analyst2', 'admin', 'pm'] as const) {
-    tokens[role] = await signIn(ctx.app, role === 'analyst2' ? { email: 'analyst2@quillfield.example', password: 'demo-analyst-pass' } : role);
-  }
+  tokens = await modelRunTokens(ctx.app);
 }, 60_000);
 
 afterAll(async () => {
-  stopSweep();
-  await boss?.stop({ graceful: false, wait: true }).catch(() => undefined);
-  await stopQueueSenders();
-  await stopFitThread();
+  await worker.stop();
   await ctx.close();
 }, 30_000);
 
