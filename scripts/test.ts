@@ -3,11 +3,13 @@ import { readFileSync, existsSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { prepareDatabase } from './prepare';
 import { runSync } from './processes';
+import { loadConfig } from '../server/config';
 
 const dataDir = process.env.LOADLINE_DATA_DIR ?? '.data';
 const report = join(dataDir, `vitest-report-${process.pid}.json`);
 
 await prepareDatabase({ fresh: true });
+loadConfig(); // makes the session secret once, before parallel test files read it
 console.log('[loadline] building the client for browser tests');
 await runSync(process.execPath, ['node_modules/vite/bin/vite.js', 'build', '--logLevel', 'warn']);
 

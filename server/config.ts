@@ -1,4 +1,4 @@
-import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, linkSync, mkdirSync, readFileSync, unlinkSync, writeFileSync } from 'node:fs';
 import { randomBytes } from 'node:crypto';
 import { join, resolve } from 'node:path';
 
@@ -35,13 +35,25 @@ export interface Config {
 
 const repoRoot = resolve(import.meta.dirname, '..');
 
+/**
+ * The session signing secret kept in the data folder, made on first use. Several processes may start at once (the
+ * API server, the worker, parallel test files): the secret is written to a private temporary file and linked into
+ * place, which fails if another process got there first, so every process ends up with the same secret.
+ */
 function secretFromDataDir(dataDir: string): string {
   const file = join(dataDir, 'jwt-secret');
   if (existsSync(file)) return readFileSync(file, 'utf8').trim();
   mkdirSync(dataDir, { recursive: true });
-  const secret = randomBytes(32).toString('hex');
-  writeFileSync(file, secret, { mode: 0o600 });
-  return secret;
+  const temporary = join(dataDir, `jwt-secret.${process.pid}.${randomBytes(4).toString('hex')}`);
+  writeFileSync(temporary, randomBytes(32).toString('hex'), { mode: 0o600 });
+  try {
+    linkSync(temporary, file);
+  } catch (error) {
+    if ((error as NodeJS.ErrnoException).code !== 'EEXIST') throw error;
+  } finally {
+    unlinkSync(temporary);
+  }
+  return readFileSync(file, 'utf8').trim();
 }
 
 /** A whole number > 0 from the environment, or the default; anything else stops the start with a clear message. */
