@@ -17,6 +17,7 @@ export const NAV_ITEMS: NavItem[] = [
   { to: '/imports', label: 'Import returns', section: 'Data', roles: ['analyst', 'admin'], description: 'Upload returns or prices as CSV, preview every problem, commit in one step.' },
   { to: '/data-quality', label: 'Data quality', section: 'Data', roles: ALL, description: 'History, gaps, volatility and outliers per asset; coverage over time; import history.' },
   { to: '/models', label: 'Models', section: 'Models', roles: ALL },
+  { to: '/asset-lists', label: 'Asset lists', section: 'Models', roles: ALL, description: 'Saved lists of assets a fit can use as its universe: browse them, save new ones, delete your own.' },
   { to: '/portfolios', label: 'Portfolios', section: 'Portfolios', roles: ALL },
   { to: '/audit', label: 'Audit log', section: 'Oversight', roles: ['admin', 'compliance'], description: 'Who did what, when and from where; filter and export as CSV.' },
   { to: '/users', label: 'Users', section: 'Administration', roles: ['admin'], description: 'Invite colleagues, set roles, deactivate accounts.' },

@@ -27,6 +27,7 @@ export const shellRoutes: RouteObject[] = [
   { path: '/models', lazy: page(() => import('../features/models/ModelRunsPage')) },
   { path: '/models/compare', lazy: page(() => import('../features/models/ComparePage')) },
   { path: '/models/:id', lazy: page(() => import('../features/models/ModelPage')) },
+  { path: '/asset-lists', lazy: page(() => import('../features/asset-lists/AssetListsPage')) },
   { path: '/portfolios', lazy: page(() => import('../features/portfolios/PortfoliosPage')) },
   { path: '/portfolios/:id', lazy: page(() => import('../features/portfolios/PortfolioEditorPage')) },
   { path: '/portfolios/:id/risk', lazy: page(() => import('../features/portfolios/PortfolioRiskPage')) },
