@@ -4,6 +4,7 @@ import { openTestPage, signInThroughUi, startBrowserSuite } from '../helpers/bro
 import { demoUser, unique } from '../helpers/app';
 import { createKnex } from '../../server/db/knex';
 import { loadConfig } from '../../server/config';
+import { DEMO_USERS } from '../../server/demo/users';
 
 /**
  * The Asset lists page end to end (real app, real database, Debian's Chromium): an analyst saves a list from typed
@@ -61,8 +62,16 @@ const listsGrid = () => page.getByRole('region', { name: 'Asset lists', exact: t
 /** Text of one column's cells in a grid, in the order shown. */
 const column = (grid: ReturnType<Page['getByRole']>, colId: string) => grid.locator(`[role="gridcell"][col-id="${colId}"]`).allTextContents();
 
-async function openPage(role: 'analyst' | 'pm') {
-  await signInThroughUi(page, suite.url, role);
+/** Signs in as a demo user (the second analyst has no role of its own in signInThroughUi) and opens the page from the rail. */
+async function openPage(role: 'analyst' | 'pm' | 'analyst2') {
+  if (role === 'analyst2') {
+    await page.goto(`${suite.url}/sign-in`);
+    const second = DEMO_USERS.find((u) => u.email === 'analyst2@quillfield.example')!;
+    await page.getByLabel('E-mail').fill(second.email);
+    await page.getByLabel('Password').fill(second.password);
+    await page.getByRole('button', { name: 'Sign in' }).click();
+    await page.waitForURL((url) => !url.pathname.startsWith('/sign-in'));
+  } else await signInThroughUi(page, suite.url, role);
   await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Asset lists', exact: true }).click();
   await page.waitForURL((url) => url.pathname === '/asset-lists');
   await page.getByRole('heading', { name: 'Asset lists', level: 1 }).waitFor();
@@ -131,5 +140,13 @@ describe('asset lists page', () => {
     expect(await page.getByRole('button', { name: 'New list' }).count()).toBe(0);
     expect(await page.getByRole('button', { name: 'Delete list' }).count()).toBe(0);
     expect(await page.getByRole('form', { name: 'New asset list' }).count()).toBe(0);
+  }, 120_000);
+
+  it('another analyst may create lists but sees no delete on a list someone else owns', async () => {
+    await openPage('analyst2');
+    await page.getByRole('button', { name: 'New list' }).waitFor();
+    await openList(fixtureListName);
+    await page.getByRole('region', { name: `Assets of ${fixtureListName}` }).getByRole('gridcell', { name: symbols[3], exact: true }).waitFor();
+    expect(await page.getByRole('button', { name: 'Delete list' }).count()).toBe(0);
   }, 120_000);
 });
