@@ -138,7 +138,7 @@ function serverCpuMs(child: ChildProcess): Promise<number> {
 
 function startServer(): Promise<{ child: ChildProcess; port: number }> {
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, ['--import', 'tsx', join(import.meta.dirname, 'support', 'riskServer.ts')], { stdio: ['ignore', 'pipe', 'inherit'], env: process.env });
+    const child = spawn(process.execPath, [...(process.env.BENCH_SERVER_NODE_ARGS?.split(' ').filter(Boolean) ?? []), '--import', 'tsx', join(import.meta.dirname, 'support', 'riskServer.ts')], { stdio: ['ignore', 'pipe', 'inherit'], env: process.env });
     let buffer = '';
     child.stdout!.on('data', (data: Buffer) => {
       buffer += data.toString();

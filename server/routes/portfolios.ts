@@ -141,7 +141,8 @@ export function portfoliosRoutes() {
       'Annualised volatility under factor analysis and probabilistic PCA (this model when of that kind, else the latest approved of that kind), and the sample ' +
       'and Ledoit–Wolf covariances computed on the same window and universe, with the ratio to the sample figure; factor/specific split; Euler contributions; ' +
       'tracking error against the benchmark; parametric and Monte Carlo (seeded, `draws`) VaR/ES at 95 % and 99 % over `horizon` periods; the rotation-invariant ' +
-      'exposure summary and the factor return history. Model estimates under normality and square-root-of-time assumptions, not guarantees.',
+      'exposure summary, and the factor return history when asked for (`history=true`). The largest `contributors` (default 25, or `all`) are listed and the rest ' +
+      'summed in `otherContributors`, so percentages still add up to 100 %. Model estimates under normality and square-root-of-time assumptions, not guarantees.',
     params: IdParamsSchema,
     query: RiskQuerySchema,
     response: PortfolioRiskSchema,
@@ -151,6 +152,8 @@ export function portfoliosRoutes() {
         horizon: query.horizon,
         draws: query.draws,
         seed: query.seed,
+        contributors: query.contributors,
+        history: query.history === 'true',
       });
       // Identical inputs give identical answers (see portfolioRiskJson): the header says whether this one was kept.
       res.setHeader('X-Loadline-Risk-Cache', cached ? 'hit' : 'miss');
@@ -170,7 +173,7 @@ export function portfoliosRoutes() {
     params: IdParamsSchema,
     body: WhatIfBodySchema,
     response: PortfolioRiskSchema,
-    handler: ({ params, body, user }) => whatIfRisk(user, Number(params.id), body.holdings, { model: body.model, horizon: body.horizon, draws: body.draws, seed: body.seed }),
+    handler: ({ params, body, user }) => whatIfRisk(user, Number(params.id), body.holdings, { model: body.model, horizon: body.horizon, draws: body.draws, seed: body.seed, contributors: body.contributors, history: body.history }),
   });
 
   return api;

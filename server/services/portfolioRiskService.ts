@@ -15,7 +15,7 @@ import type { CovarianceModel, DenseCovarianceModel, FactorModel, MeanHandling, 
 import { EXPOSURE_CAVEAT, RISK_ASSUMPTIONS, parametricTailRisk, portfolioRisk, varianceBreakdown } from '../engine/risk';
 import { fitModel } from '../engine/fit';
 import { loadModel, panelSha256, type StoredModel } from './modelStore';
-import { holdingsOf, readablePortfolio, readablePortfolioWithBenchmark, type PortfolioRow } from './portfoliosService';
+import { holdingsOf, readablePortfolio, type PortfolioRow } from './portfoliosService';
 import { simulatePortfolio } from './portfolioSimulation';
 import type { Estimator } from '../../shared/schemas/modelRuns';
 import type { PortfolioRisk, VolatilityRow } from '../../shared/schemas/portfolios';
@@ -250,6 +250,10 @@ export interface RiskRequest {
   horizon: number;
   draws: number;
   seed: number;
+  /** How many of the largest contributors to list; the rest are summed (default: every one). */
+  contributors?: number | 'all';
+  /** Include the factor return history (default: no). */
+  history?: boolean;
 }
 
 interface RunRow {
@@ -260,18 +264,21 @@ interface RunRow {
   approved_at: Date | null;
 }
 
-/** The chosen run (or the latest approved one) and the latest approved run of each estimator, in one query. */
-async function runsFor(chosen: number | undefined): Promise<{ primary: RunRow; latestByEstimator: Map<Estimator, RunRow> }> {
-  const rows = (await knex()('model_runs')
-    .where((w) => {
-      w.where({ lifecycle: 'approved', status: 'succeeded' });
-      if (chosen !== undefined) w.orWhere({ id: chosen });
-    })
-    .orderBy([{ column: 'approved_at', order: 'desc', nulls: 'last' }, { column: 'id', order: 'desc' }])
-    .select('id', 'label', 'estimator', 'lifecycle', 'approved_at', 'status')) as (RunRow & { status: string })[];
+type RunRowWithStatus = RunRow & { status: string };
+type ResolvedRuns = { primary: RunRow; latestByEstimator: Map<Estimator, RunRow> };
+
+/** The latest approved run of each estimator, and the chosen run, as SQL (one statement, also used by the hot path). */
+const RUNS_SQL = `(SELECT DISTINCT ON (estimator) id, label, estimator, lifecycle, approved_at, status FROM model_runs
+     WHERE lifecycle = 'approved' AND status = 'succeeded' ORDER BY estimator, approved_at DESC NULLS LAST, id DESC)
+   UNION
+   SELECT id, label, estimator, lifecycle, approved_at, status FROM model_runs WHERE id = :chosen`;
+
+/** The chosen run (or the latest approved one) and the latest approved run of each estimator. */
+function pickRuns(rows: RunRowWithStatus[], chosen: number | undefined): ResolvedRuns {
+  rows.sort((a, b) => (a.approved_at === b.approved_at ? 0 : a.approved_at === null ? 1 : b.approved_at === null ? -1 : new Date(b.approved_at).getTime() - new Date(a.approved_at).getTime()) || b.id - a.id);
   const latestByEstimator = new Map<Estimator, RunRow>();
   for (const r of rows) if (r.lifecycle === 'approved' && r.status === 'succeeded' && !latestByEstimator.has(r.estimator)) latestByEstimator.set(r.estimator, r);
-  let primary: (RunRow & { status: string }) | undefined;
+  let primary: RunRowWithStatus | undefined;
   if (chosen !== undefined) {
     primary = rows.find((r) => r.id === chosen);
     if (!primary) throw notFound(`Model run ${chosen} does not exist`);
@@ -283,6 +290,10 @@ async function runsFor(chosen: number | undefined): Promise<{ primary: RunRow; l
   return { primary, latestByEstimator };
 }
 
+async function runsFor(chosen: number | undefined): Promise<ResolvedRuns> {
+  return pickRuns((await knex().raw(RUNS_SQL, { chosen: chosen ?? null })).rows as RunRowWithStatus[], chosen);
+}
+
 const PERIOD_NAMES: Record<number, string> = { 252: 'trading days', 52: 'weeks', 12: 'months' };
 
 async function computeRisk(
@@ -291,7 +302,7 @@ async function computeRisk(
   benchmark: { id: number; name: string; holdings: HeldWeights[] } | null,
   request: RiskRequest,
   whatIf: boolean,
-  resolvedRuns?: Awaited<ReturnType<typeof runsFor>>,
+  resolvedRuns?: ResolvedRuns,
 ): Promise<PortfolioRisk> {
   const started = performance.now();
   const { primary, latestByEstimator } = resolvedRuns ?? (await runsFor(request.model));
@@ -417,7 +428,7 @@ async function computeRisk(
 
   // Factor return history: (Wᵀw)ᵀ z_t over the window's dates, z_t the stored factor scores.
   let factorReturnHistory: PortfolioRisk['factorReturnHistory'] = null;
-  if (model.kind === 'factor' && stored.factorScores && risk.exposure) {
+  if (request.history && model.kind === 'factor' && stored.factorScores && risk.exposure) {
     const l = model.factors;
     const scores = stored.factorScores;
     factorReturnHistory = stored.dates.map((date, t) => {
@@ -427,7 +438,7 @@ async function computeRisk(
     });
   }
 
-  const contributors = positions.index
+  const allContributors = positions.index
     .map((i, j) => {
       const at = slot.get(i)!;
       return {
@@ -441,6 +452,17 @@ async function computeRisk(
     })
     .sort((a, b) => Math.abs(b.percent) - Math.abs(a.percent));
   // Benchmark-only assets have zero weight in the portfolio, so they add nothing; keep the sum check exact.
+  const listed = request.contributors === undefined || request.contributors === 'all' ? allContributors.length : request.contributors;
+  const contributors = allContributors.slice(0, listed);
+  const rest = allContributors.slice(listed);
+  const otherContributors = rest.length
+    ? {
+        count: rest.length,
+        weight: rest.reduce((s, c) => s + c.weight, 0),
+        contribution: rest.reduce((s, c) => s + c.contribution, 0),
+        percent: rest.reduce((s, c) => s + c.percent, 0),
+      }
+    : null;
 
   let trackingError: PortfolioRisk['trackingError'] = null;
   if (benchmark && risk.active && benchmarkPositions) {
@@ -487,6 +509,7 @@ async function computeRisk(
     annualisedVolatility: risk.annualisedVolatility,
     volatility: risk.volatility,
     contributors,
+    otherContributors,
     trackingError,
     tailRisk: {
       horizon: request.horizon,
@@ -529,7 +552,7 @@ async function cachedHoldings(portfolioId: number, version: number): Promise<Hel
 }
 
 /** The benchmark's holdings, or null without one (or when the caller may not read it: then no tracking error). */
-async function benchmarkFrom(row: PortfolioRow | null): Promise<{ id: number; name: string; version: number; holdings: HeldWeights[] } | null> {
+async function benchmarkFrom(row: Pick<PortfolioRow, 'id' | 'name' | 'version'> | null): Promise<{ id: number; name: string; version: number; holdings: HeldWeights[] } | null> {
   if (!row) return null;
   const holdings = await cachedHoldings(row.id, row.version);
   return holdings.length ? { id: row.id, name: row.name, version: row.version, holdings } : null;
@@ -550,15 +573,38 @@ export async function portfolioRiskReport(user: Actor, portfolioId: number, requ
   return computeRisk(inputs.portfolio, inputs.holdings, inputs.benchmark, request, false, inputs.runs);
 }
 
+interface SavedPortfolioRow {
+  id: number;
+  name: string;
+  benchmark_portfolio_id: number | null;
+  version: number;
+}
+
+/**
+ * The portfolio, its benchmark and the model runs in ONE round trip (the hot path of GET …/risk). The reader scope is
+ * portfoliosService's scopeForReader: PMs read their own funds and every benchmark, other roles everything.
+ */
+async function savedRiskRows(user: Actor, portfolioId: number, chosen: number | undefined) {
+  const readable = `(NOT :pmOnly OR owner_id = :userId OR kind = 'benchmark')`;
+  const columns = `id, name, benchmark_portfolio_id, (extract(epoch FROM updated_at) * 1000000)::bigint AS version`;
+  const result = await knex().raw(
+    `WITH p AS (SELECT ${columns} FROM portfolios WHERE id = :portfolioId AND ${readable}),
+          b AS (SELECT ${columns} FROM portfolios WHERE id = (SELECT benchmark_portfolio_id FROM p) AND ${readable}),
+          runs AS (${RUNS_SQL})
+     SELECT (SELECT row_to_json(p) FROM p) AS portfolio, (SELECT row_to_json(b) FROM b) AS benchmark,
+            (SELECT coalesce(json_agg(runs), '[]') FROM runs) AS runs`,
+    { pmOnly: user.role === 'pm', userId: user.id, portfolioId, chosen: chosen ?? null },
+  );
+  return result.rows[0] as { portfolio: SavedPortfolioRow | null; benchmark: SavedPortfolioRow | null; runs: RunRowWithStatus[] };
+}
+
 async function savedRiskInputs(user: Actor, portfolioId: number, request: RiskRequest) {
-  // The portfolio and the model runs in parallel; a portfolio the caller may not read answers 404 before anything is
-  // said about models.
-  const [rowResult, runsResult] = await Promise.allSettled([readablePortfolioWithBenchmark(user, portfolioId), runsFor(request.model)]);
-  if (rowResult.status === 'rejected') throw rowResult.reason;
-  if (runsResult.status === 'rejected') throw runsResult.reason;
-  const { row, benchmark: benchmarkRow } = rowResult.value;
-  const runs = runsResult.value;
-  const [holdings, benchmark] = await Promise.all([cachedHoldings(row.id, row.version), benchmarkFrom(benchmarkRow)]);
+  const rows = await savedRiskRows(user, portfolioId, request.model);
+  // A portfolio the caller may not read answers 404 before anything is said about models.
+  const row = rows.portfolio;
+  if (!row) throw notFound(`Portfolio ${portfolioId} does not exist or is not yours to see`);
+  const runs = pickRuns(rows.runs, request.model);
+  const [holdings, benchmark] = await Promise.all([cachedHoldings(row.id, row.version), benchmarkFrom(rows.benchmark)]);
   if (!holdings.length) throw unprocessable(`Portfolio '${row.name}' has no holdings yet`, [{ path: 'holdings', message: 'add holdings before asking for risk' }]);
   return { portfolio: { id: row.id, name: row.name }, version: row.version, holdings, benchmark, runs };
 }
@@ -585,6 +631,8 @@ export async function portfolioRiskJson(user: Actor, portfolioId: number, reques
     request.horizon,
     request.draws,
     request.seed,
+    request.contributors ?? 'all',
+    request.history ?? false,
   ]);
   const hit = answerCache.get(key);
   if (hit !== undefined) {

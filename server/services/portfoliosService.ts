@@ -113,21 +113,6 @@ export async function readablePortfolio(user: Actor, id: number, trx?: Knex.Tran
   return row;
 }
 
-/**
- * The portfolio and, when it has one the caller may read, its benchmark, in one query (the risk page's hot path);
- * 404 when the portfolio itself is not readable.
- */
-export async function readablePortfolioWithBenchmark(user: Actor, id: number): Promise<{ row: PortfolioRow; benchmark: PortfolioRow | null }> {
-  const k = db();
-  const rows = (await scopeForReader(summaryQuery(k), user).where((w) =>
-    w.where('p.id', id).orWhere('p.id', k('portfolios').select('benchmark_portfolio_id').where({ id })),
-  )) as PortfolioRow[];
-  const row = rows.find((r) => r.id === id);
-  if (!row) throw notFound(`Portfolio ${id} does not exist or is not yours to see`);
-  const benchmark = row.benchmark_portfolio_id ? (rows.find((r) => r.id === row.benchmark_portfolio_id) ?? null) : null;
-  return { row, benchmark };
-}
-
 async function editablePortfolio(user: Actor, id: number, trx: Knex.Transaction): Promise<PortfolioRow> {
   const row = await readablePortfolio(user, id, trx);
   if (!canEdit(user, row)) throw forbidden('Only the portfolio’s owner or an administrator may change it');

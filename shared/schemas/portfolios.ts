@@ -106,11 +106,22 @@ export const WEIGHT_SUM_TOLERANCE = 1e-4;
 // ---------------------------------------------------------------------------------------------------------------
 // Risk
 
+/** Contributors listed by default: the largest by |percent|; the rest are summed in `otherContributors`. */
+export const DEFAULT_CONTRIBUTORS = 25;
+
 export const RiskQuerySchema = z.object({
   model: z.string().regex(/^\d+$/, 'must be a model run id').optional(),
   horizon: z.coerce.number().int('must be a whole number of periods').min(1, 'at least 1 period').max(260, 'at most 260 periods').default(1),
   draws: z.coerce.number().int('must be a whole number').min(1000, 'at least 1000 draws').max(200_000, 'at most 200000 draws').default(10_000),
   seed: z.coerce.number().int('must be a whole number').min(0).max(2 ** 31 - 1).default(20261202),
+  contributors: z
+    .union([z.literal('all'), z.coerce.number().int('must be a whole number or "all"').min(1, 'at least 1').max(10_000, 'at most 10000')])
+    .default(DEFAULT_CONTRIBUTORS)
+    .meta({ description: `How many of the largest contributors to list (by |percent|), or "all"; the rest are summed in otherContributors. Default ${DEFAULT_CONTRIBUTORS}.` }),
+  history: z
+    .enum(['true', 'false'], { message: 'must be true or false' })
+    .default('false')
+    .meta({ description: 'Include the portfolio’s factor return history over the window (one point per date).' }),
 });
 export type RiskQuery = z.input<typeof RiskQuerySchema>;
 
@@ -124,6 +135,8 @@ export const WhatIfBodySchema = z
     horizon: z.number().int().min(1).max(260).default(1),
     draws: z.number().int().min(1000).max(200_000).default(10_000),
     seed: z.number().int().min(0).max(2 ** 31 - 1).default(20261202),
+    contributors: z.union([z.literal('all'), z.number().int().min(1).max(10_000)]).default(DEFAULT_CONTRIBUTORS),
+    history: z.boolean().default(false),
   })
   .meta({ id: 'WhatIfBody' });
 export type WhatIfBody = z.input<typeof WhatIfBodySchema>;
@@ -192,7 +205,10 @@ export const PortfolioRiskSchema = z
       .nullable(),
     annualisedVolatility: z.number(),
     volatility: z.number(),
+    /** The largest contributors by |percent| (all of them when asked with contributors=all). */
     contributors: z.array(ContributorSchema),
+    /** The covered holdings not listed in `contributors`, summed (null when every one is listed): the sums stay checkable. */
+    otherContributors: z.object({ count: z.number().int(), weight: z.number(), contribution: z.number(), percent: z.number() }).nullable(),
     trackingError: z
       .object({
         benchmark: z.object({ id: z.number().int(), name: z.string() }),
@@ -210,6 +226,7 @@ export const PortfolioRiskSchema = z
     exposure: z
       .object({ factorVarianceShare: z.number(), exposureNorm: z.number(), exposures: z.array(z.number()), caveat: z.string() })
       .nullable(),
+    /** Only when asked for (history=true) and the model is a factor model with stored scores; null otherwise. */
     factorReturnHistory: z.array(z.object({ date: IsoDateSchema, value: z.number() })).nullable(),
     assumptions: z.array(z.string()),
     elapsedMs: z.number(),

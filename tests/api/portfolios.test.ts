@@ -201,7 +201,7 @@ describe('risk', () => {
   });
 
   it('answers every figure of the risk page, naming the model version', async () => {
-    const res = await request(ctx.app).get(`/api/portfolios/${fundId}/risk`).query({ model: faRun.id, horizon: 10, draws: 20000, seed: 7 }).set(auth('pm'));
+    const res = await request(ctx.app).get(`/api/portfolios/${fundId}/risk`).query({ model: faRun.id, horizon: 10, draws: 20000, seed: 7, contributors: 'all', history: 'true' }).set(auth('pm'));
     expect(res.status, JSON.stringify(res.body)).toBe(200);
     const r = res.body;
     expect(r.model).toMatchObject({ runId: faRun.id, label: faRun.label, method: 'fa', lifecycle: 'draft', assets: N, observations: T, factors: 3, periodsPerYear: 252 });
@@ -219,6 +219,7 @@ describe('risk', () => {
     expect(r.split.factorShare + r.split.specificShare).toBeCloseTo(1, 14);
     // Euler contributions: percentages sum to 100 %, contributions to the annualised volatility
     expect(r.contributors).toHaveLength(held.length);
+    expect(r.otherContributors).toBeNull();
     const percent = r.contributors.reduce((s: number, c: { percent: number }) => s + c.percent, 0);
     expect(Math.abs(percent - 1)).toBeLessThan(1e-12);
     const contribution = r.contributors.reduce((s: number, c: { contribution: number }) => s + c.contribution, 0);
@@ -238,7 +239,7 @@ describe('risk', () => {
     const mc99 = r.tailRisk.monteCarlo.levels.find((t: { confidence: number }) => t.confidence === 0.99);
     expect(Math.abs(mc99.valueAtRisk / p99.valueAtRisk - 1)).toBeLessThan(0.05);
     expect(Math.abs(r.tailRisk.monteCarlo.simulatedVolatility / r.volatility - 1)).toBeLessThan(0.02);
-    const again = await request(ctx.app).get(`/api/portfolios/${fundId}/risk`).query({ model: faRun.id, horizon: 10, draws: 20000, seed: 7 }).set(auth('pm'));
+    const again = await request(ctx.app).get(`/api/portfolios/${fundId}/risk`).query({ model: faRun.id, horizon: 10, draws: 20000, seed: 7, contributors: 'all', history: 'true' }).set(auth('pm'));
     expect(again.body.tailRisk.monteCarlo).toEqual(r.tailRisk.monteCarlo);
     // exposure summary: rotation-invariant share and norm, canonical exposures with the orientation caveat
     expect(r.exposure.exposures).toHaveLength(3);
@@ -249,6 +250,27 @@ describe('risk', () => {
     expect(r.factorReturnHistory).toHaveLength(T);
     expect(r.factorReturnHistory[0].date).toBe(dates[0]);
     expect(r.assumptions.join(' ')).toMatch(/normal/);
+  });
+
+  it('lists the largest contributors by default and sums the rest, so the totals still check', async () => {
+    const full = await request(ctx.app).get(`/api/portfolios/${fundId}/risk`).query({ model: faRun.id, contributors: 'all' }).set(auth('pm'));
+    const top = await request(ctx.app).get(`/api/portfolios/${fundId}/risk`).query({ model: faRun.id, contributors: 2 }).set(auth('pm'));
+    expect(top.status, JSON.stringify(top.body)).toBe(200);
+    expect(top.body.contributors).toEqual(full.body.contributors.slice(0, 2));
+    const rest = full.body.contributors.slice(2);
+    expect(top.body.otherContributors.count).toBe(rest.length);
+    expect(top.body.otherContributors.weight).toBeCloseTo(rest.reduce((s: number, c: { weight: number }) => s + c.weight, 0), 14);
+    const percent = top.body.contributors.reduce((s: number, c: { percent: number }) => s + c.percent, top.body.otherContributors.percent);
+    expect(Math.abs(percent - 1)).toBeLessThan(1e-12);
+    const contribution = top.body.contributors.reduce((s: number, c: { contribution: number }) => s + c.contribution, top.body.otherContributors.contribution);
+    expect(Math.abs(contribution - top.body.annualisedVolatility)).toBeLessThan(1e-12);
+    // The history comes only when asked for; the default lists at most 25 contributors.
+    expect(top.body.factorReturnHistory).toBeNull();
+    const plain = await request(ctx.app).get(`/api/portfolios/${fundId}/risk`).query({ model: faRun.id }).set(auth('pm'));
+    expect(plain.body.contributors).toHaveLength(Math.min(25, full.body.contributors.length));
+    const bad = await request(ctx.app).get(`/api/portfolios/${fundId}/risk`).query({ model: faRun.id, contributors: 'some', history: 'maybe' }).set(auth('pm'));
+    expect(bad.status).toBe(422);
+    expect(bad.body.issues.map((i: { path: string }) => i.path).sort()).toEqual(['contributors', 'history']);
   });
 
   it('keeps an answer only while its inputs are unchanged: new holdings give a fresh answer', async () => {

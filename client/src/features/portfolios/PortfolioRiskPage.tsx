@@ -37,7 +37,8 @@ export default function PortfolioRiskPage() {
   // ?model=<run id> opens the page under a chosen run (e.g. from a model page); default: the latest approved one.
   const [params, setParams] = useState<RiskParams>(() => {
     const chosen = Number(search.get('model'));
-    return { horizon: 1, draws: 10_000, seed: 20261202, ...(chosen > 0 ? { model: chosen } : {}) };
+    // The page lists every contributor (grid, CSV) and draws the factor return history: ask for both.
+    return { horizon: 1, draws: 10_000, seed: 20261202, contributors: 'all', history: true, ...(chosen > 0 ? { model: chosen } : {}) };
   });
   const [editRows, setEditRows] = useState<EditableHolding[] | null>(null);
 
@@ -73,7 +74,7 @@ export default function PortfolioRiskPage() {
 
   const name = portfolio.data?.name ?? risk?.portfolio.name ?? 'Portfolio';
   const periods = risk?.tailRisk.periodsLabel ?? 'periods';
-  const percentSum = risk ? risk.contributors.reduce((s, c) => s + c.percent, 0) : null;
+  const percentSum = risk ? risk.contributors.reduce((s, c) => s + c.percent, risk.otherContributors?.percent ?? 0) : null;
 
   return (
     <div className="flex flex-col gap-5">

@@ -18,7 +18,8 @@ export const portfolioKeys = {
   approvedModels: () => ['model-runs', 'approved', 'for-portfolios'] as const,
 };
 
-export type RiskParams = { model?: number; horizon: number; draws: number; seed: number };
+/** `contributors`: how many of the largest to list (the rest are summed by the server); `history`: include the factor return history. */
+export type RiskParams = { model?: number; horizon: number; draws: number; seed: number; contributors?: number | 'all'; history?: boolean };
 export type WhatIfWeight = { symbol: string; weight: number };
 
 export type ApprovedModelHeader = {
