@@ -5,6 +5,7 @@ import { Strategy as JwtStrategy, ExtractJwt } from 'passport-jwt';
 import { User } from '../models/User';
 import { ApiToken } from '../models/ApiToken';
 import type { AuthenticatedUser } from './access';
+import { sessionUser } from './userCache';
 
 export const SESSION_COOKIE = 'loadline_session';
 /** Named script tokens start with this, so they are never mistaken for a signed session token. */
@@ -22,7 +23,7 @@ function bearer(req: Request): string | null {
   return ExtractJwt.fromAuthHeaderAsBearerToken()(req);
 }
 
-/** Sessions are JWTs (cookie for the browser, Bearer for scripts); each request re-reads the user so deactivation bites at once. */
+/** Sessions are JWTs (cookie for the browser, Bearer for scripts); each request checks the current user row (see userCache.ts) so deactivation bites at once. */
 export function configurePassport(jwtSecret: string): void {
   passport.use(
     new JwtStrategy(
@@ -36,8 +37,7 @@ export function configurePassport(jwtSecret: string): void {
         },
       },
       (payload: { sub: string; iat: number; iat_ms?: number }, done: (err: unknown, user?: AuthenticatedUser | false) => void) => {
-        User.query()
-          .findById(Number(payload.sub))
+        sessionUser(Number(payload.sub))
           .then((user) => {
             if (!user || !user.active) return done(null, false);
             // A session issued before sessions_valid_after (deactivation, password change) is dead.

@@ -1,4 +1,5 @@
-import { Model } from 'objection';
+import { Model, type StaticHookArguments } from 'objection';
+import { usersChanged } from '../auth/userCache';
 import type { Role } from '../../shared/schemas/common';
 
 export class User extends Model {
@@ -14,6 +15,16 @@ export class User extends Model {
   last_sign_in_at!: Date | null;
   created_at!: Date;
   updated_at!: Date;
+
+  // Signed-in users are kept in memory per process (server/auth/userCache.ts): a change drops them here at once; a
+  // database trigger tells the other processes.
+  static afterUpdate({ transaction }: StaticHookArguments<User>) {
+    usersChanged(transaction);
+  }
+
+  static afterDelete({ transaction }: StaticHookArguments<User>) {
+    usersChanged(transaction);
+  }
 
   $beforeUpdate() {
     this.updated_at = new Date();

@@ -8,7 +8,7 @@
  */
 import { hostname } from 'node:os';
 import type PgBoss from 'pg-boss';
-import pg from 'pg';
+import { listenTo } from '../db/listen';
 import type { Knex } from 'knex';
 import { Model } from 'objection';
 import { ModelRun } from '../models/ModelRun';
@@ -247,29 +247,15 @@ export async function sweepModelRuns(boss: PgBoss, staleSeconds: number, log: (m
 
 /** Wakes the given pg-boss worker whenever the web server announces a job on this queue (LISTEN/NOTIFY). */
 async function listenForJobs(boss: PgBoss, workerId: string, log: (m: string) => void): Promise<() => Promise<void>> {
-  const connection = (Model.knex().client as { config: { connection: string | pg.ClientConfig } }).config.connection;
-  let client: pg.Client | null = null;
-  let stopped = false;
-  const connect = async () => {
-    if (stopped) return;
-    const c = new pg.Client(typeof connection === 'string' ? { connectionString: connection } : connection);
-    c.on('notification', (message) => {
-      if (message.payload === modelFitQueue()) boss.notifyWorker(workerId);
-    });
-    c.on('error', (error) => {
-      log(`[model-fit] job notifications lost (${error.message}); polling until they are back`);
-      client = null;
-      setTimeout(() => void connect().catch(() => undefined), 5000).unref();
-    });
-    await c.connect();
-    await c.query(`LISTEN ${MODEL_FIT_CHANNEL}`);
-    client = c;
-  };
-  await connect().catch((error) => log(`[model-fit] no job notifications (${(error as Error).message}); polling only`));
-  return async () => {
-    stopped = true;
-    await client?.end().catch(() => undefined);
-  };
+  const listener = listenTo(
+    MODEL_FIT_CHANNEL,
+    (payload) => {
+      if (payload === modelFitQueue()) boss.notifyWorker(workerId);
+    },
+    { onState: (up, error) => (up ? undefined : log(`[model-fit] job notifications lost (${error?.message}); polling until they are back`)) },
+  );
+  await listener.ready;
+  return () => listener.stop();
 }
 
 /** Registers the model-fit queue and handler on a started pg-boss; returns a function that stops the sweep and the listener. */
