@@ -15,7 +15,7 @@ import type { CovarianceModel, DenseCovarianceModel, FactorModel, MeanHandling, 
 import { EXPOSURE_CAVEAT, RISK_ASSUMPTIONS, parametricTailRisk, portfolioRisk, varianceBreakdown } from '../engine/risk';
 import { fitModel } from '../engine/fit';
 import { loadModel, panelSha256, type StoredModel } from './modelStore';
-import { holdingsOf, readablePortfolio, type PortfolioRow } from './portfoliosService';
+import { holdingsOf, type PortfolioRow } from './portfoliosService';
 import { simulatePortfolio } from './portfolioSimulation';
 import type { Estimator } from '../../shared/schemas/modelRuns';
 import type { PortfolioRisk, VolatilityRow } from '../../shared/schemas/portfolios';
@@ -33,6 +33,8 @@ interface Comparisons {
   sample: DenseCovarianceModel;
   ledoitWolf: DenseCovarianceModel;
   shrinkage: number;
+  /** LW = scale · sample + ridge · I, checked entry by entry when loaded (null: compute LW's quadratic form itself). */
+  ledoitWolfAsSample: { scale: number; ridge: number } | null;
   pairwise: boolean;
   repairedToPsd: boolean;
   /** The stored returns still hash to the fingerprint the model was fitted on. */
@@ -130,6 +132,7 @@ function comparisonsFor(context: ModelContext): Promise<Comparisons> {
         sample: sample.model as DenseCovarianceModel,
         ledoitWolf: shrunk.model as DenseCovarianceModel,
         shrinkage: shrunk.diagnostics.shrinkage ?? 0,
+        ledoitWolfAsSample: shrinkageAsScaledSample(sample.model as DenseCovarianceModel, shrunk.model as DenseCovarianceModel),
         pairwise: flags.includes('pairwise-complete-covariance'),
         repairedToPsd: flags.includes('pairwise-covariance-repaired-to-psd'),
         dataMatches: panelSha256(panel.values) === context.dataSha256,
@@ -213,33 +216,51 @@ function factorVolatility(model: FactorModel, positions: Positions): number {
 }
 
 /**
- * Per-period volatilities under several dense models on the same assets (sample and Ledoit–Wolf): the quadratic
- * forms wᵀCw = Σ_a w_a (C_aa w_a + 2 Σ_{b<a} C_ab w_b) read in place over the held assets, one pass for all matrices,
- * O(k²/2) each, never copying a k × k block.
+ * Per-period volatility of the covered part of a portfolio under a dense model: the quadratic form
+ * wᵀCw = Σ_a w_a (C_aa w_a + 2 Σ_{b<a} C_ab w_b) read in place over the held assets, O(k²/2), never copying a k × k
+ * block. The held assets are visited in the model's order, so each row is read forwards (measured: the scattered
+ * reads of holding order cost about twice as much at k = 500 of N = 1000).
  */
-function denseVolatilities(models: readonly DenseCovarianceModel[], positions: Positions): number[] {
+function denseVolatility(model: DenseCovarianceModel, positions: Positions): number {
   const k = positions.index.length;
-  const n = models[0].assets;
-  const index = Int32Array.from(positions.index);
-  const w = Float64Array.from(positions.weights);
-  const c0 = models[0].covariance;
-  const c1 = models.length > 1 ? models[1].covariance : models[0].covariance;
-  let v0 = 0;
-  let v1 = 0;
+  const n = model.assets;
+  const order = Array.from({ length: k }, (_, j) => j).sort((x, y) => positions.index[x] - positions.index[y]);
+  const index = Int32Array.from(order, (j) => positions.index[j]);
+  const w = Float64Array.from(order, (j) => positions.weights[j]);
+  const c = model.covariance;
+  let v = 0;
   for (let a = 0; a < k; a++) {
     const row = index[a] * n;
-    let s0 = 0;
-    let s1 = 0;
-    for (let b = 0; b < a; b++) {
-      const at = row + index[b];
-      s0 += c0[at] * w[b];
-      s1 += c1[at] * w[b];
-    }
+    let s = 0;
+    for (let b = 0; b < a; b++) s += c[row + index[b]] * w[b];
     const wa = w[a];
-    v0 += wa * (c0[row + index[a]] * wa + 2 * s0);
-    v1 += wa * (c1[row + index[a]] * wa + 2 * s1);
+    v += wa * (c[row + index[a]] * wa + 2 * s);
   }
-  return [Math.sqrt(Math.max(v0, 0)), Math.sqrt(Math.max(v1, 0))].slice(0, models.length);
+  return Math.sqrt(Math.max(v, 0));
+}
+
+/**
+ * Ledoit–Wolf is (1 − δ) S + δ μ I (Ledoit & Wolf 2004): when the stored matrices say so entry by entry, with S the
+ * sample matrix up to its divisor, answers (scale, ridge) such that LW = scale · sample + ridge · I, so a portfolio's
+ * LW variance is scale · wᵀSw + ridge · Σ w², with no second pass over the matrix. Null when any entry disagrees
+ * (then both quadratic forms are computed).
+ */
+export function shrinkageAsScaledSample(sample: DenseCovarianceModel, shrunk: DenseCovarianceModel): { scale: number; ridge: number } | null {
+  const n = sample.assets;
+  const s = sample.covariance;
+  const l = shrunk.covariance;
+  let at = -1;
+  for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) if (at < 0 || Math.abs(s[i * n + j]) > Math.abs(s[at])) at = i * n + j;
+  if (at < 0 || s[at] === 0) return null;
+  const scale = l[at] / s[at];
+  const ridge = l[0] - scale * s[0];
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) {
+      const expected = scale * s[i * n + j] + (i === j ? ridge : 0);
+      if (Math.abs(l[i * n + j] - expected) > 1e-12 * (Math.abs(l[i * n + j]) + Math.abs(l[0]))) return null;
+    }
+  }
+  return { scale, ridge };
 }
 
 // ---------------------------------------------------------------------------------------------------------------
@@ -267,7 +288,7 @@ interface RunRow {
 type RunRowWithStatus = RunRow & { status: string };
 type ResolvedRuns = { primary: RunRow; latestByEstimator: Map<Estimator, RunRow> };
 
-/** The latest approved run of each estimator, and the chosen run, as SQL (one statement, also used by the hot path). */
+/** The latest approved run of each estimator, and the chosen run (part of savedRiskRows' one statement). */
 const RUNS_SQL = `(SELECT DISTINCT ON (estimator) id, label, estimator, lifecycle, approved_at, status FROM model_runs
      WHERE lifecycle = 'approved' AND status = 'succeeded' ORDER BY estimator, approved_at DESC NULLS LAST, id DESC)
    UNION
@@ -290,10 +311,6 @@ function pickRuns(rows: RunRowWithStatus[], chosen: number | undefined): Resolve
   return { primary, latestByEstimator };
 }
 
-async function runsFor(chosen: number | undefined): Promise<ResolvedRuns> {
-  return pickRuns((await knex().raw(RUNS_SQL, { chosen: chosen ?? null })).rows as RunRowWithStatus[], chosen);
-}
-
 const PERIOD_NAMES: Record<number, string> = { 252: 'trading days', 52: 'weeks', 12: 'months' };
 
 async function computeRisk(
@@ -302,10 +319,10 @@ async function computeRisk(
   benchmark: { id: number; name: string; holdings: HeldWeights[] } | null,
   request: RiskRequest,
   whatIf: boolean,
-  resolvedRuns?: ResolvedRuns,
+  resolvedRuns: ResolvedRuns,
 ): Promise<PortfolioRisk> {
   const started = performance.now();
-  const { primary, latestByEstimator } = resolvedRuns ?? (await runsFor(request.model));
+  const { primary, latestByEstimator } = resolvedRuns;
   const context = await modelContext(primary.id);
   const { stored } = context;
   const header = stored.header;
@@ -340,7 +357,13 @@ async function computeRisk(
 
   // Side by side: FA and PPCA (this model when of that kind, else the latest approved one), sample and LW on this window.
   const comparisons = await comparisonsFor(context);
-  const [sampleVol, lwVol] = denseVolatilities([comparisons.sample, comparisons.ledoitWolf], positions);
+  const sampleVol = denseVolatility(comparisons.sample, positions);
+  let lwVol: number;
+  if (comparisons.ledoitWolfAsSample) {
+    const { scale, ridge } = comparisons.ledoitWolfAsSample;
+    const sumSquares = positions.weights.reduce((sum, x) => sum + x * x, 0);
+    lwVol = Math.sqrt(Math.max(scale * sampleVol * sampleVol + ridge * sumSquares, 0));
+  } else lwVol = denseVolatility(comparisons.ledoitWolf, positions);
   const coveredWeight = positions.weights.reduce((s, x) => s + x, 0);
   const volatilities: VolatilityRow[] = [];
   for (const estimator of ['fa', 'ppca'] as const) {
@@ -356,7 +379,7 @@ async function computeRisk(
     const otherContext = await modelContext(other.id);
     const otherPositions = positionsIn(otherContext, holdings);
     const otherModel = otherContext.stored.model;
-    const vol = otherModel.kind === 'factor' ? factorVolatility(otherModel, otherPositions) : (otherPositions.index.length ? denseVolatilities([otherModel], otherPositions)[0] : 0);
+    const vol = otherModel.kind === 'factor' ? factorVolatility(otherModel, otherPositions) : (otherPositions.index.length ? denseVolatility(otherModel, otherPositions) : 0);
     const h = otherContext.stored.header;
     const sameWindow = h.firstDate === header.firstDate && h.lastDate === header.lastDate && h.assets === header.assets && h.observations === header.observations;
     const covered = otherPositions.weights.reduce((s, x) => s + x, 0);
@@ -558,15 +581,6 @@ async function benchmarkFrom(row: Pick<PortfolioRow, 'id' | 'name' | 'version'> 
   return holdings.length ? { id: row.id, name: row.name, version: row.version, holdings } : null;
 }
 
-async function benchmarkOf(user: Actor, benchmarkId: number | null) {
-  if (!benchmarkId) return null;
-  try {
-    return await benchmarkFrom(await readablePortfolio(user, benchmarkId));
-  } catch {
-    return null;
-  }
-}
-
 /** Risk of a saved portfolio. */
 export async function portfolioRiskReport(user: Actor, portfolioId: number, request: RiskRequest): Promise<PortfolioRisk> {
   const inputs = await savedRiskInputs(user, portfolioId, request);
@@ -649,11 +663,14 @@ export async function portfolioRiskJson(user: Actor, portfolioId: number, reques
 
 /** Risk of edited weights for a saved portfolio (nothing is stored). Weights are used as given. */
 export async function whatIfRisk(user: Actor, portfolioId: number, weights: { symbol: string; weight: number }[], request: RiskRequest): Promise<PortfolioRisk> {
-  const row = await readablePortfolio(user, portfolioId);
-  const benchmark = await benchmarkOf(user, row.benchmark_portfolio_id);
-  // Symbols: unknown ones and duplicates name their row; the asset table is asked only for symbols outside the model.
-  const runs = await runsFor(request.model);
+  // The portfolio, its benchmark and the runs in one query, as for the saved portfolio's risk.
+  const rows = await savedRiskRows(user, portfolioId, request.model);
+  const row = rows.portfolio;
+  if (!row) throw notFound(`Portfolio ${portfolioId} does not exist or is not yours to see`);
+  const runs = pickRuns(rows.runs, request.model);
+  const benchmark = await benchmarkFrom(rows.benchmark);
   const { primary } = runs;
+  // Symbols: unknown ones and duplicates name their row; the asset table is asked only for symbols outside the model.
   const context = await modelContext(primary.id);
   const issues: { path: string; message: string }[] = [];
   const seen = new Map<string, number>();
