@@ -162,11 +162,13 @@ export async function enqueueRun(databaseUrl: string, runId: number): Promise<vo
   }
 }
 
-export async function listRuns(filter: { lifecycle?: string; status?: string; estimator?: string; limit: number }): Promise<ModelRunDto[]> {
+export async function listRuns(filter: { lifecycle?: string; status?: string; estimator?: string; assetList?: string; limit: number }): Promise<ModelRunDto[]> {
   const q = ModelRun.query().orderBy('id', 'desc').limit(filter.limit);
   if (filter.lifecycle) q.where('lifecycle', filter.lifecycle);
   if (filter.status) q.where('status', filter.status);
   if (filter.estimator) q.where('estimator', filter.estimator);
+  // The universe as the run was asked for: { kind: 'list', listId } (parameters are stored as given, validated).
+  if (filter.assetList) q.whereRaw(`parameters->'universe'->>'kind' = 'list' AND parameters->'universe'->>'listId' = ?`, [String(Number(filter.assetList))]);
   return toDtos(await q);
 }
 

@@ -104,6 +104,7 @@ export const ModelRunListQuerySchema = z.object({
   lifecycle: z.enum(LIFECYCLES).optional(),
   status: z.enum(RUN_STATUSES).optional(),
   estimator: EstimatorSchema.optional(),
+  assetList: z.string().regex(/^\d+$/, 'must be an asset list id').optional().meta({ description: 'Only runs whose universe is this saved asset list.' }),
   limit: z.coerce.number().int().min(1).max(500).default(100),
 });
 

@@ -110,6 +110,12 @@ describe('a run queued over a list that is then deleted (no worker yet)', () => 
     expect(run.status).toBe(201);
     runOfDeletedList = run.body.id;
     deletedListId = list.body.id;
+    // The runs over this list, and only those (another run over all assets is not among them).
+    const other = await request(ctx.app).post('/api/model-runs').set(as('analyst')).send({ universe: { kind: 'assets', symbols }, window: { kind: 'last', observations: 60 }, estimator: 'sample' });
+    expect(other.status).toBe(201);
+    const over = await request(ctx.app).get('/api/model-runs').query({ assetList: list.body.id }).set(as('pm'));
+    expect(over.status).toBe(200);
+    expect(over.body.runs.map((r: { id: number }) => r.id)).toEqual([run.body.id]);
     expect((await request(ctx.app).delete(`/api/asset-lists/${list.body.id}`).set(as('analyst'))).status).toBe(200);
   });
 });

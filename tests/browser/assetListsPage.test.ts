@@ -113,7 +113,7 @@ describe('asset lists page', () => {
     const row = listsGrid().getByRole('row').filter({ hasText: name });
     await expect.poll(() => row.locator('[col-id="owner"]').textContent()).toBe(demoUser('analyst').name);
     expect(await row.locator('[col-id="size"]').textContent()).toBe('3');
-    await page.getByRole('region', { name: 'Fits over this list' }).getByText('None among the 100 most recent runs.').waitFor();
+    await page.getByRole('region', { name: 'Fits over this list' }).getByText('No fit has used this list yet.').waitFor();
 
     // Delete asks first; keeping it changes nothing.
     await page.getByRole('button', { name: 'Delete list' }).click();

@@ -8,25 +8,22 @@ import { Button } from '../../components/Button';
 import { Alert, ErrorAlert } from '../../components/Alert';
 import { DataGrid } from '../../components/DataGrid';
 import { formatDateTime } from '../../lib/format';
-import { useModelRuns } from '../models/api';
+import { useModelRunsOverList } from '../models/api';
 import { RunStatusBadge } from '../models/RunProgress';
 import { useAssetList, useDeleteAssetList } from './api';
 
 type MemberRow = AssetListDetail['assets'][number] & { position: number };
 
-/** How many recent runs GET /api/model-runs returns by default (its `limit`): the usage note says so plainly. */
-const RECENT_RUNS = 100;
+/** At most this many fits are listed (the newest): GET /api/model-runs' largest `limit`. */
+const MAX_RUNS = 500;
 
 /** The selected list: its details, its assets in the order entered, the fits that used it, and (owner or admin) delete. */
 export function AssetListPanel({ summary, onClose, onDeleted }: { summary: AssetListSummary; onClose: () => void; onDeleted: (name: string) => void }) {
   const detail = useAssetList(summary.id);
-  const runs = useModelRuns();
+  const runs = useModelRunsOverList(summary.id);
   const remove = useDeleteAssetList();
   const [confirming, setConfirming] = useState(false);
-  const usedBy = useMemo(
-    () => (runs.data ?? []).filter((run: ModelRun) => run.parameters.universe.kind === 'list' && run.parameters.universe.listId === summary.id),
-    [runs.data, summary.id],
-  );
+  const usedBy: ModelRun[] = runs.data ?? [];
   const rows = useMemo<MemberRow[] | undefined>(() => detail.data?.assets.map((asset, k) => ({ ...asset, position: k + 1 })), [detail.data]);
   // A queued fit resolves the list when a worker takes it, so deleting the list now makes that fit fail.
   const queuedRuns = usedBy.filter((run) => run.status === 'queued');
@@ -71,7 +68,7 @@ export function AssetListPanel({ summary, onClose, onDeleted }: { summary: Asset
             <h3 className="text-xs font-semibold tracking-wide text-ink-soft uppercase">Fits over this list</h3>
             {runs.isError ? <ErrorAlert error={runs.error} title="The model runs could not be loaded" /> : null}
             {runs.isPending ? <p className="text-xs text-ink-faint">Loading…</p> : null}
-            {runs.data && usedBy.length === 0 ? <p className="text-sm text-ink-soft">None among the {RECENT_RUNS} most recent runs.</p> : null}
+            {runs.data && usedBy.length === 0 ? <p className="text-sm text-ink-soft">No fit has used this list yet.</p> : null}
             {usedBy.length ? (
               <ul className="flex flex-col gap-1 text-sm">
                 {usedBy.map((run) => (
@@ -84,7 +81,7 @@ export function AssetListPanel({ summary, onClose, onDeleted }: { summary: Asset
                 ))}
               </ul>
             ) : null}
-            {usedBy.length ? <p className="text-xs text-ink-faint">From the {RECENT_RUNS} most recent runs.</p> : null}
+            {usedBy.length >= MAX_RUNS ? <p className="text-xs text-ink-faint">The {MAX_RUNS} newest fits are listed.</p> : null}
           </section>
 
           {summary.canDelete ? (

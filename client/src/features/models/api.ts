@@ -23,6 +23,15 @@ export function useModelRuns() {
   });
 }
 
+/** GET /api/model-runs?assetList=:id: the runs over one saved asset list (polls while any is queued or running). */
+export function useModelRunsOverList(listId: number) {
+  return useQuery({
+    queryKey: [...modelKeys.list(), 'asset-list', listId] as const,
+    queryFn: () => api.get<{ runs: ModelRun[] }>('/model-runs', { query: { assetList: listId, limit: 500 } }).then((answer) => answer.runs),
+    refetchInterval: (query) => (query.state.data?.some(active) ? 1000 : false),
+  });
+}
+
 /** GET /api/model-runs/:id: polls while the run is queued or running. */
 export function useModelRun(id: number) {
   return useQuery({
