@@ -8,7 +8,7 @@
  * - a change made through the User model in this process drops every entry at once and again right after its commit
  *   (User's static update/delete hooks call usersChanged), so the next request here never sees the old row, however
  *   late the announcement arrives;
- * - a row read while an announcement arrived is not kept (it may predate the change), entries are trusted only while
+ * - a row read while a change of that user was announced is not kept (it may predate the change), entries are trusted only while
  *   the LISTEN connection is up (everything is dropped when it is lost), and for at most USER_TTL_MS in any case.
  */
 import { Model } from 'objection';
@@ -25,22 +25,31 @@ export type CachedUser = Pick<User, 'id' | 'email' | 'name' | 'role' | 'active' 
 const entries = new Map<number, { user: CachedUser; at: number }>();
 let listener: Listener | null = null;
 let live = false;
-/** Moves on every announcement and every loss of the connection: a read that spans a move is not kept. */
-let epoch = 0;
+/**
+ * A read of a user is kept only if nothing about that user was announced while it ran: `clock` moves on every
+ * announcement, `changedAt` remembers when each user was last announced and `allChangedAt` when everything was dropped.
+ */
+let clock = 0;
+let allChangedAt = 0;
+const changedAt = new Map<number, number>();
 
 function forgetAll(): void {
   entries.clear();
-  epoch++;
+  changedAt.clear();
+  allChangedAt = ++clock;
+}
+
+function forgetOne(id: number): void {
+  entries.delete(id);
+  changedAt.set(id, ++clock);
+  if (changedAt.size > MAX_USERS) forgetAll();
 }
 
 function ensureListening(): void {
   if (listener) return;
   listener = listenTo(
     USER_CHANGED_CHANNEL,
-    (payload) => {
-      entries.delete(Number(payload));
-      epoch++;
-    },
+    (payload) => forgetOne(Number(payload)),
     {
       unref: true,
       onState: (up) => {
@@ -57,12 +66,12 @@ export async function sessionUser(id: number): Promise<CachedUser | undefined> {
   const now = performance.now();
   const kept = live ? entries.get(id) : undefined;
   if (kept && now - kept.at < USER_TTL_MS) return kept.user;
-  const before = epoch;
+  const before = clock;
   // A plain query, not the User model: the model's hooks call into this module.
   const row = (await (Model.knex() as Knex)('users').where({ id }).first('id', 'email', 'name', 'role', 'active', 'sessions_valid_after')) as CachedUser | undefined;
   if (!row) return undefined;
   const user: CachedUser = { id: row.id, email: row.email, name: row.name, role: row.role, active: row.active, sessions_valid_after: row.sessions_valid_after };
-  if (live && epoch === before) {
+  if (live && allChangedAt <= before && (changedAt.get(id) ?? 0) <= before) {
     entries.set(id, { user, at: now });
     if (entries.size > MAX_USERS) entries.delete(entries.keys().next().value!);
   }
