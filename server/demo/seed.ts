@@ -1,6 +1,7 @@
 import type { Knex } from 'knex';
 import { upsertUser } from '../services/authService';
 import { DEMO_USERS } from './users';
+import { seedDemoAssetLists } from './assetLists';
 import { seedDemoPortfolios } from './portfolios';
 import { seedDemoReturns } from './returns';
 import { seedDemoModels } from './models';
@@ -21,6 +22,8 @@ export async function seedDemo(knex: Knex, log: (message: string) => void = cons
   await seedDemoModels(knex, log);
   // Portfolios are built from the demo assets: keep this step after the import (and model) steps.
   await seedDemoPortfolios(knex, log);
+  // Saved asset lists name demo assets and a demo fund.
+  await seedDemoAssetLists(knex, log);
 }
 
 /** True when nothing has been stored yet (no users): the only time the demo is seeded. */

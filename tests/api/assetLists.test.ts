@@ -28,6 +28,18 @@ afterAll(async () => {
 }, 30_000);
 
 describe('saved asset lists', () => {
+  it('the demo holds the analysts’ lists, made from the demo fund and sectors (npm test seeds the demo)', async () => {
+    const lists = (await request(ctx.app).get('/api/asset-lists').set(as('pm'))).body.lists as { id: number; name: string; size: number }[];
+    const core = lists.find((l) => l.name === 'Core Equity holdings');
+    expect(core).toBeDefined();
+    const detail = await request(ctx.app).get(`/api/asset-lists/${core!.id}`).set(as('pm'));
+    const fund = await ctx.knex('portfolio_holdings as h').join('portfolios as p', 'p.id', 'h.portfolio_id').join('assets as a', 'a.id', 'h.asset_id').where('p.name', 'Quillfield Core Equity').orderBy('h.position').pluck('a.symbol');
+    expect(detail.body.assets.map((a: { symbol: string }) => a.symbol)).toEqual(fund);
+    const defensive = lists.find((l) => l.name === 'Defensive sectors');
+    const sectors = new Set((await request(ctx.app).get(`/api/asset-lists/${defensive!.id}`).set(as('pm'))).body.assets.map((a: { sector: string }) => a.sector));
+    expect([...sectors].sort()).toEqual(['Consumer staples', 'Health care', 'Utilities']);
+  });
+
   it('creates a list, reads it back in the order entered, lists it, and audits it', async () => {
     const planted = plantedPanel({ assets: 4, observations: 40, factors: 1, seed: 31 });
     const symbols = await insertPanel(ctx.knex, unique('AL'), planted.panel.values, 40, 4);
