@@ -3,6 +3,7 @@ import request from 'supertest';
 import { createKnex } from '../../server/db/knex';
 import { upsertUser } from '../../server/services/authService';
 import { userCacheState } from '../../server/auth/userCache';
+import { User } from '../../server/models/User';
 import { signIn, testContext, unique } from '../helpers/app';
 
 /**
@@ -61,6 +62,21 @@ describe('signed-in users kept in memory', () => {
     const changed = await request(ctx.app).patch(`/api/users/${user.id}`).set('Authorization', `Bearer ${admin}`).send({ role: 'pm' });
     expect(changed.status).toBe(200);
     expect((await me()).body.role).toBe('pm'); // no waiting: the model's hook dropped the entry after commit
+  });
+
+  it('the User model drops kept users as soon as it changes one, before the commit announces it', async () => {
+    const { user, me } = await freshAnalyst();
+    await me();
+    expect(userCacheState(user.id).kept).toBe(true);
+    await User.transaction(async (trx) => {
+      await User.query(trx).patch({ name: 'Renamed in a transaction' }).where({ id: user.id });
+      // Not committed yet, so no announcement can have arrived: only the model's hook can have dropped the entry.
+      expect(userCacheState(user.id).kept).toBe(false);
+      await me(); // reads the committed row (the old name) on another connection...
+    });
+    // ...and the commit's second drop (and the announcement) keep that old row from being served afterwards.
+    expect(userCacheState(user.id).kept).toBe(false);
+    expect((await me()).body.name).toBe('Renamed in a transaction');
   });
 
   it('keeps nothing while the announcements are lost, and resumes once they are back', async () => {
