@@ -217,6 +217,17 @@ export default async function run(): Promise<void> {
         `— target p95 ≤ 50 ms: ${getP95 <= 50 ? 'met' : 'NOT met'}`,
     );
     console.log(`  server CPU per GET: ${cpuPerRequest.toFixed(2)} ms (user + system, whole process); machine load average ${loadavg()[0].toFixed(1)} on ${cpus().length} cores`);
+    // The same request from a script with a named API token (token and user read from the database each time).
+    const minted = await fetch(`${base}/api/tokens`, { method: 'POST', headers: { authorization: `Bearer ${token}`, 'content-type': 'application/json' }, body: JSON.stringify({ name: `bench ${Date.now()}` }) });
+    const { secret } = (await minted.json()) as { secret: string };
+    const cpuBeforeScript = await serverCpuMs(server.child);
+    const script = await load(url, secret, 'GET');
+    const scriptCpu = ((await serverCpuMs(server.child)) - cpuBeforeScript) / script.times.length;
+    const scriptP95 = percentile(script.times, 95);
+    console.log(
+      `  GET risk with an API token (a script), ${CONNECTIONS} clients: ${script.times.length} requests, ${script.result.requests.average.toFixed(0)} req/s, p50 ${percentile(script.times, 50).toFixed(1)} ms, ` +
+        `p95 ${scriptP95.toFixed(1)} ms, p99 ${percentile(script.times, 99).toFixed(1)} ms, non-200: ${script.errors}; server CPU per request ${scriptCpu.toFixed(2)} ms — p95 ≤ 50 ms: ${scriptP95 <= 50 ? 'met' : 'NOT met'}`,
+    );
     // The risk page's own request: every contributor and the factor return history (135 KB instead of about 9 KB).
     const cpuBeforeFull = await serverCpuMs(server.child);
     const full = await load(`${url}&contributors=all&history=true`, token, 'GET');
