@@ -8,8 +8,9 @@
  * - a change made through the User model in this process drops every entry at once and again right after its commit
  *   (User's static update/delete hooks call usersChanged), so the next request here never sees the old row, however
  *   late the announcement arrives;
- * - a row read while a change of that user was announced is not kept (it may predate the change), entries are trusted only while
- *   the LISTEN connection is up (everything is dropped when it is lost), and for at most USER_TTL_MS in any case.
+ * - a row read while a change of that user was announced is not kept (it may predate the change); entries are trusted
+ *   only while the LISTEN connection is up (everything is dropped when it is lost; a heartbeat through it finds a
+ *   connection that died silently within about 8 s, see listen.ts), and for at most USER_TTL_MS in any case.
  */
 import { Model } from 'objection';
 import type { Knex } from 'knex';
@@ -17,7 +18,7 @@ import type { User } from '../models/User';
 import { listenTo, type Listener } from '../db/listen';
 
 export const USER_CHANGED_CHANNEL = 'loadline_user_changed';
-const USER_TTL_MS = 60_000;
+const USER_TTL_MS = 30_000;
 const MAX_USERS = 5000;
 
 export type CachedUser = Pick<User, 'id' | 'email' | 'name' | 'role' | 'active' | 'sessions_valid_after'>;
@@ -52,8 +53,9 @@ function ensureListening(): void {
     (payload) => forgetOne(Number(payload)),
     {
       unref: true,
-      onState: (up) => {
+      onState: (up, error) => {
         forgetAll();
+        if (live !== up) console.warn(up ? '[api] user changes are announced again: signed-in users are kept in memory' : `[api] user changes are not being announced (${error?.message}): every request reads its user from the database`);
         live = up;
       },
     },
@@ -84,7 +86,10 @@ export async function sessionUser(id: number): Promise<CachedUser | undefined> {
  */
 export function usersChanged(transaction?: Knex | Knex.Transaction): void {
   forgetAll();
-  const pending = (transaction as Partial<Knex.Transaction> | undefined)?.executionPromise;
+  // The outermost transaction: a nested one (a savepoint) settles before anything is committed.
+  let outer = transaction as (Partial<Knex.Transaction> & { parentTransaction?: Knex.Transaction }) | undefined;
+  while (outer?.parentTransaction) outer = outer.parentTransaction;
+  const pending = outer?.executionPromise;
   if (pending) pending.then(forgetAll, forgetAll);
 }
 
