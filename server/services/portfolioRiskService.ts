@@ -257,7 +257,8 @@ export function shrinkageAsScaledSample(sample: DenseCovarianceModel, shrunk: De
   for (let i = 0; i < n; i++) {
     for (let j = 0; j < n; j++) {
       const expected = scale * s[i * n + j] + (i === j ? ridge : 0);
-      if (Math.abs(l[i * n + j] - expected) > 1e-12 * (Math.abs(l[i * n + j]) + Math.abs(l[0]))) return null;
+      // Relative to the entry's own scale √(LWᵢᵢ LWⱼⱼ), so no one asset's variance sets the bar for all.
+      if (Math.abs(l[i * n + j] - expected) > 1e-12 * Math.sqrt(l[i * n + i] * l[j * n + j])) return null;
     }
   }
   return { scale, ridge };
@@ -294,9 +295,8 @@ const RUNS_SQL = `(SELECT DISTINCT ON (estimator) id, label, estimator, lifecycl
    UNION
    SELECT id, label, estimator, lifecycle, approved_at, status FROM model_runs WHERE id = :chosen`;
 
-/** The chosen run (or the latest approved one) and the latest approved run of each estimator. */
+/** The chosen run (or the latest approved one) and the latest approved run of each estimator; `rows` newest approval first. */
 function pickRuns(rows: RunRowWithStatus[], chosen: number | undefined): ResolvedRuns {
-  rows.sort((a, b) => (a.approved_at === b.approved_at ? 0 : a.approved_at === null ? 1 : b.approved_at === null ? -1 : new Date(b.approved_at).getTime() - new Date(a.approved_at).getTime()) || b.id - a.id);
   const latestByEstimator = new Map<Estimator, RunRow>();
   for (const r of rows) if (r.lifecycle === 'approved' && r.status === 'succeeded' && !latestByEstimator.has(r.estimator)) latestByEstimator.set(r.estimator, r);
   let primary: RunRowWithStatus | undefined;
@@ -606,7 +606,7 @@ async function savedRiskRows(user: Actor, portfolioId: number, chosen: number | 
           b AS (SELECT ${columns} FROM portfolios WHERE id = (SELECT benchmark_portfolio_id FROM p) AND ${readable}),
           runs AS (${RUNS_SQL})
      SELECT (SELECT row_to_json(p) FROM p) AS portfolio, (SELECT row_to_json(b) FROM b) AS benchmark,
-            (SELECT coalesce(json_agg(runs), '[]') FROM runs) AS runs`,
+            (SELECT coalesce(json_agg(runs ORDER BY approved_at DESC NULLS LAST, id DESC), '[]') FROM runs) AS runs`,
     { pmOnly: user.role === 'pm', userId: user.id, portfolioId, chosen: chosen ?? null },
   );
   return result.rows[0] as { portfolio: SavedPortfolioRow | null; benchmark: SavedPortfolioRow | null; runs: RunRowWithStatus[] };
