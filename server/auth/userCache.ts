@@ -26,6 +26,8 @@ export type CachedUser = Pick<User, 'id' | 'email' | 'name' | 'role' | 'active' 
 const entries = new Map<number, { user: CachedUser; at: number }>();
 let listener: Listener | null = null;
 let live = false;
+/** When the announcements were lost (performance.now()), 0 while they flow or before the first connection. */
+let lostSince = 0;
 /**
  * A read of a user is kept only if nothing about that user was announced while it ran: `clock` moves on every
  * announcement, `changedAt` remembers when each user was last announced and `allChangedAt` when everything was dropped.
@@ -55,7 +57,10 @@ function ensureListening(): void {
       unref: true,
       onState: (up, error) => {
         forgetAll();
-        if (live !== up) console.warn(up ? '[api] user changes are announced again: signed-in users are kept in memory' : `[api] user changes are not being announced (${error?.message}): every request reads its user from the database`);
+        // Said when announcements are lost and when they come back after a loss (not at the first start).
+        if (!up && !lostSince) console.warn(`[api] user changes are not being announced (${error?.message}): every request reads its user from the database`);
+        if (up && lostSince) console.warn(`[api] user changes are announced again after ${((performance.now() - lostSince) / 1000).toFixed(1)} s: signed-in users are kept in memory`);
+        lostSince = up ? 0 : lostSince || performance.now();
         live = up;
       },
     },
@@ -103,6 +108,7 @@ export async function stopUserCache(): Promise<void> {
   const current = listener;
   listener = null;
   live = false;
+  lostSince = 0;
   forgetAll();
   await current?.stop();
 }
