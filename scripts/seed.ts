@@ -1,14 +1,13 @@
-// Seeds the invented demo when the database is empty (npm start and npm test run this).
+// Seeds the invented demo into a demo database, part by part where absent (npm start and npm test run this).
 import { createKnex, bindModels } from '../server/db/knex';
-import { seedDemo, databaseIsEmpty } from '../server/demo/seed';
+import { completeDemo } from '../server/demo/seed';
 
-export async function seedIfEmpty(url: string): Promise<boolean> {
+/** Answers the demo parts seeded now (none when the database has them all, or is not a demo database). */
+export async function seedDemoWhereMissing(url: string): Promise<string[]> {
   const knex = createKnex(url, { max: 4 });
   bindModels(knex);
   try {
-    if (!(await databaseIsEmpty(knex))) return false;
-    await seedDemo(knex);
-    return true;
+    return await completeDemo(knex);
   } finally {
     await knex.destroy();
   }

@@ -7,6 +7,7 @@ import { createAssetList } from '../services/assetListsService';
 import { DEMO_PORTFOLIOS } from './portfolios';
 
 const DEFENSIVE_SECTORS = ['Utilities', 'Consumer staples', 'Health care'];
+export const DEMO_ASSET_LIST_NAMES = ['Core Equity holdings', 'Defensive sectors'];
 
 export async function seedDemoAssetLists(knex: Knex, log: (message: string) => void = console.log): Promise<void> {
   const analyst = await knex('users').where({ email: 'analyst@quillfield.example' }).first('id', 'email', 'role');
@@ -23,8 +24,8 @@ export async function seedDemoAssetLists(knex: Knex, log: (message: string) => v
     .orderBy('a.symbol')
     .pluck('a.symbol')) as string[];
   const lists = [
-    { name: 'Core Equity holdings', description: `The assets held in ${DEMO_PORTFOLIOS.core} when the demo was set up: a fit over exactly the fund's names.`, symbols: core },
-    { name: 'Defensive sectors', description: `Every demo asset in ${DEFENSIVE_SECTORS.join(', ')}.`, symbols: defensive },
+    { name: DEMO_ASSET_LIST_NAMES[0], description: `The assets held in ${DEMO_PORTFOLIOS.core} when the demo was set up: a fit over exactly the fund's names.`, symbols: core },
+    { name: DEMO_ASSET_LIST_NAMES[1], description: `Every demo asset in ${DEFENSIVE_SECTORS.join(', ')}.`, symbols: defensive },
   ].filter((list) => list.symbols.length >= 2);
   for (const list of lists) await createAssetList(analyst, list, null);
   log(`[seed] ${lists.length} saved asset lists (${lists.map((l) => `${l.symbols.length} assets`).join(', ')})`);
