@@ -49,6 +49,8 @@ interface ModelContext {
   weighting: Weighting;
   mean: MeanHandling;
   dataSha256: string;
+  /** Each model asset's currency as stored in the asset metadata (null when not given). */
+  currencies: (string | null)[];
   comparisons: Promise<Comparisons> | null;
 }
 
@@ -71,6 +73,7 @@ export function modelContext(runId: number): Promise<ModelContext> {
     const stored = await loadModel(runId);
     const run = await knex()('model_runs as r').join('model_results as m', 'm.run_id', 'r.id').where('r.id', runId).select('r.parameters', 'm.data_sha256').first();
     const parameters = (run?.parameters ?? {}) as { weighting?: Weighting; mean?: MeanHandling };
+    const currencyOf = new Map(((await knex()('assets').whereIn('id', stored.assetIds).select('id', 'currency')) as { id: number; currency: string | null }[]).map((a) => [a.id, a.currency]));
     return {
       stored,
       byAssetId: new Map(stored.assetIds.map((id, i) => [id, i])),
@@ -78,6 +81,7 @@ export function modelContext(runId: number): Promise<ModelContext> {
       weighting: parameters.weighting ?? { kind: 'equal' },
       mean: parameters.mean ?? 'sample',
       dataSha256: run?.data_sha256 ?? '',
+      currencies: stored.assetIds.map((id) => currencyOf.get(id)?.trim().toUpperCase() || null),
       comparisons: null,
     } satisfies ModelContext;
   })();
@@ -314,7 +318,7 @@ function pickRuns(rows: RunRowWithStatus[], chosen: number | undefined): Resolve
 const PERIOD_NAMES: Record<number, string> = { 252: 'trading days', 52: 'weeks', 12: 'months' };
 
 async function computeRisk(
-  portfolio: { id: number; name: string },
+  portfolio: { id: number; name: string; baseCurrency: string },
   holdings: HeldWeights[],
   benchmark: { id: number; name: string; holdings: HeldWeights[] } | null,
   request: RiskRequest,
@@ -435,6 +439,18 @@ async function computeRisk(
         ? `q = N/T = ${q.toFixed(2)} is high: the sample covariance is noisy at this ratio of assets to observations, understates the risk of optimised portfolios and is unreliable here.`
         : null;
 
+  // Returns are used as stored, each in its asset's own currency: say when that leaves exchange-rate risk out.
+  const foreign = new Map<string, number>();
+  positions.index.forEach((i, j) => {
+    const currency = context.currencies[i];
+    if (currency && currency !== portfolio.baseCurrency) foreign.set(currency, (foreign.get(currency) ?? 0) + positions.weights[j]);
+  });
+  const foreignWeight = [...foreign.values()].reduce((sum, x) => sum + x, 0);
+  const currencyNote = foreign.size
+    ? `Holdings worth ${(foreignWeight * 100).toFixed(1)} % of the weight are in ${[...foreign.keys()].sort().join(', ')}, not the portfolio's base currency ${portfolio.baseCurrency}: ` +
+      `their returns are used as stored, in their own currency, so these figures leave out exchange-rate risk against ${portfolio.baseCurrency}.`
+    : null;
+
   // Monte Carlo from the generative model, in the portfolio's own dimension (see portfolioSimulation.ts).
   const exposures = risk.exposure ? risk.exposure.exposures : new Float64Array(0);
   const residualVariance = risk.exposure ? (risk.specificVariance ?? 0) : risk.variance;
@@ -498,7 +514,7 @@ async function computeRisk(
   }
 
   const answer: PortfolioRisk = {
-    portfolio,
+    portfolio: { id: portfolio.id, name: portfolio.name },
     whatIf,
     model: {
       runId: header.runId,
@@ -520,6 +536,7 @@ async function computeRisk(
     volatilities,
     concentrationRatio: q,
     sampleNote,
+    currencyNote,
     split:
       risk.factorVariance !== null && risk.specificVariance !== null
         ? {
@@ -550,6 +567,7 @@ async function computeRisk(
     assumptions: [
       ...RISK_ASSUMPTIONS,
       `Estimated on ${window} (${header.label}, ${primary.lifecycle}); VaR and expected shortfall are losses as a fraction of portfolio value over ${request.horizon} ${PERIOD_NAMES[ppy] ?? 'periods'}, zero mean.`,
+      ...(currencyNote ? [currencyNote] : []),
       ...(positions.uncovered.length ? [`${positions.uncovered.length} holding(s) outside the model's universe are left out of every figure (weight ${positions.uncovered.reduce((s, x) => s + x.weight, 0).toFixed(4)}).`] : []),
     ],
     elapsedMs: 0,
@@ -590,6 +608,7 @@ export async function portfolioRiskReport(user: Actor, portfolioId: number, requ
 interface SavedPortfolioRow {
   id: number;
   name: string;
+  base_currency: string;
   benchmark_portfolio_id: number | null;
   version: number;
 }
@@ -600,7 +619,7 @@ interface SavedPortfolioRow {
  */
 async function savedRiskRows(user: Actor, portfolioId: number, chosen: number | undefined) {
   const readable = `(NOT :pmOnly OR owner_id = :userId OR kind = 'benchmark')`;
-  const columns = `id, name, benchmark_portfolio_id, (extract(epoch FROM updated_at) * 1000000)::bigint AS version`;
+  const columns = `id, name, base_currency, benchmark_portfolio_id, (extract(epoch FROM updated_at) * 1000000)::bigint AS version`;
   const result = await knex().raw(
     `WITH p AS (SELECT ${columns} FROM portfolios WHERE id = :portfolioId AND ${readable}),
           b AS (SELECT ${columns} FROM portfolios WHERE id = (SELECT benchmark_portfolio_id FROM p) AND ${readable}),
@@ -620,7 +639,7 @@ async function savedRiskInputs(user: Actor, portfolioId: number, request: RiskRe
   const runs = pickRuns(rows.runs, request.model);
   const [holdings, benchmark] = await Promise.all([cachedHoldings(row.id, row.version), benchmarkFrom(rows.benchmark)]);
   if (!holdings.length) throw unprocessable(`Portfolio '${row.name}' has no holdings yet`, [{ path: 'holdings', message: 'add holdings before asking for risk' }]);
-  return { portfolio: { id: row.id, name: row.name }, version: row.version, holdings, benchmark, runs };
+  return { portfolio: { id: row.id, name: row.name, baseCurrency: row.base_currency.trim() }, version: row.version, holdings, benchmark, runs };
 }
 
 /**
@@ -639,6 +658,7 @@ export async function portfolioRiskJson(user: Actor, portfolioId: number, reques
     inputs.portfolio.id,
     inputs.version,
     inputs.portfolio.name,
+    inputs.portfolio.baseCurrency,
     inputs.benchmark ? [inputs.benchmark.id, inputs.benchmark.version, inputs.benchmark.name] : null,
     [primary.id, primary.lifecycle, primary.approved_at ? new Date(primary.approved_at).getTime() : null],
     [...latestByEstimator.entries()].map(([e, r]) => [e, r.id]),
@@ -694,7 +714,7 @@ export async function whatIfRisk(user: Actor, portfolioId: number, weights: { sy
   // Asset names for the contributors grid come from the saved holdings where known.
   const names = new Map((await cachedHoldings(row.id, row.version)).map((h) => [h.symbol.toUpperCase(), h.name]));
   for (const h of held) if (h.name === null) h.name = names.get(h.symbol) ?? null;
-  return computeRisk({ id: row.id, name: row.name }, held, benchmark, { ...request, model: primary.id }, true, runs);
+  return computeRisk({ id: row.id, name: row.name, baseCurrency: row.base_currency.trim() }, held, benchmark, { ...request, model: primary.id }, true, runs);
 }
 
 export type { FactorModel };

@@ -200,6 +200,8 @@ export const PortfolioRiskSchema = z
     /** N / T of the model's window and a plain note when it is high. */
     concentrationRatio: z.number(),
     sampleNote: z.string().nullable(),
+    /** Set when holdings are in other currencies than the portfolio's base currency (exchange-rate risk left out). */
+    currencyNote: z.string().nullable(),
     split: z
       .object({ factorVariance: z.number(), specificVariance: z.number(), factorShare: z.number(), specificShare: z.number() })
       .nullable(),

@@ -4,6 +4,7 @@ import { testContext, signIn, unique } from '../helpers/app';
 import { insertReturnSeries, removeAssets, storeFittedRun } from '../helpers/portfolioModels';
 import { createRandom } from '../../server/engine/random';
 import { plantedPanel } from '../../server/engine/planted';
+import { clearRiskCache } from '../../server/services/portfolioRiskService';
 
 const ctx = testContext();
 const tokens: Record<string, string> = {};
@@ -250,6 +251,26 @@ describe('risk', () => {
     expect(r.factorReturnHistory).toHaveLength(T);
     expect(r.factorReturnHistory[0].date).toBe(dates[0]);
     expect(r.assumptions.join(' ')).toMatch(/normal/);
+  });
+
+  it('says when holdings are in another currency than the base currency (exchange-rate risk left out)', async () => {
+    const ask = () => request(ctx.app).get(`/api/portfolios/${fundId}/risk`).query({ model: faRun.id, contributors: 'all' }).set(auth('pm'));
+    const before = await ask();
+    expect(before.body.currencyNote).toBeNull();
+    const [first, second] = before.body.contributors as { symbol: string; weight: number }[];
+    await ctx.knex('assets').whereIn('symbol', [first.symbol, second.symbol]).update({ currency: 'EUR' });
+    try {
+      clearRiskCache(); // asset metadata is read with the model, once per process
+      const after = await ask();
+      const weight = ((first.weight + second.weight) * 100).toFixed(1);
+      expect(after.body.currencyNote).toBe(
+        `Holdings worth ${weight} % of the weight are in EUR, not the portfolio's base currency USD: their returns are used as stored, in their own currency, so these figures leave out exchange-rate risk against USD.`,
+      );
+      expect(after.body.assumptions).toContain(after.body.currencyNote);
+    } finally {
+      await ctx.knex('assets').whereIn('symbol', [first.symbol, second.symbol]).update({ currency: null });
+      clearRiskCache();
+    }
   });
 
   it('lists the largest contributors by default and sums the rest, so the totals still check', async () => {
