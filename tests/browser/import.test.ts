@@ -1,6 +1,8 @@
 // Upload → preview → commit → data-quality grid, in Debian's headless Chromium against the real app and database.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { readFileSync } from 'node:fs';
+import { readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import type { Knex } from 'knex';
 import type { Page } from 'playwright-core';
 import { launchBrowser, signInThroughUi, startServer } from '../helpers/browser';
@@ -81,6 +83,41 @@ describe('importing return series in the browser', () => {
     const layout = await heatmap.evaluate((svg) => ({ box: svg.parentElement!.getBoundingClientRect().height, cells: svg.querySelectorAll('.visx-heatmap-rect').length }));
     expect(layout.box).toBeGreaterThan(300);
     expect(layout.cells).toBeGreaterThan(300 * 40);
+  });
+
+  it('the preview marks the asset unknown to the database as new, in the figures and as a word in the assets grid', async () => {
+    const prefix = unique('QN').toUpperCase();
+    const known = `${prefix}KNOWN`;
+    const fresh = `${prefix}NEWX`;
+    await knex('assets').insert({ symbol: known, name: `Invented holding ${known}` });
+    // A bad value on row 3 too: an error must not hide which asset is new.
+    const file = join(tmpdir(), `${prefix}-new-and-known.csv`);
+    writeFileSync(file, `date,symbol,value\n2019-05-06,${fresh},0.01\n2019-05-06,${known},abc\n2019-05-07,${fresh},0.02\n2019-05-07,${known},0.01\n`);
+    try {
+      await page.goto(`${server.url}/imports`);
+      // Signed in by the first test; run alone (-t), this test signs in itself.
+      await page.getByLabel('CSV file').or(page.getByLabel('E-mail')).first().waitFor({ timeout: 60_000 });
+      if (await page.getByLabel('E-mail').isVisible()) {
+        await signInThroughUi(page, server.url, 'analyst');
+        await page.goto(`${server.url}/imports`);
+      }
+      await page.getByLabel('CSV file').setInputFiles(file);
+      await page.getByRole('button', { name: 'Preview' }).click();
+      const summary = page.getByLabel('Import summary');
+      await summary.waitFor({ timeout: 60_000 });
+      await expect(summary.textContent()).resolves.toMatch(/Assets found\s*2 \(1 new\)/);
+      const grid = page.getByRole('region', { name: 'Assets in the file' });
+      const newRow = grid.locator('.ag-row', { hasText: fresh }).first();
+      await newRow.waitFor({ timeout: 30_000 });
+      const knownRow = grid.locator('.ag-row', { hasText: known }).first();
+      await expect(newRow.locator('[col-id="isNew"]').innerText()).resolves.toContain('new');
+      await expect(knownRow.locator('[col-id="isNew"]').innerText()).resolves.toContain('known');
+      // Words, not checkboxes.
+      await expect(grid.locator('[col-id="isNew"] input[type="checkbox"]').count()).resolves.toBe(0);
+      expect(await storedFor(knex, prefix)).toEqual({ assets: 1, observations: 0, revisions: 0 });
+    } finally {
+      await knex('assets').where({ symbol: known }).delete();
+    }
   });
 
   it('a file with errors shows the problems with row and column, and cannot be committed', async () => {

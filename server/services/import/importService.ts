@@ -20,7 +20,7 @@ import {
 } from './parse';
 import { DaySet, detectFrequency, gapWarnings, storedValue, type Frequency } from './validate';
 import { createStaging, stageSymbols, stagingCopyStream } from './copy';
-import { convertPrices, createNewAssets, hasKnownAssets, largeReturnWarnings, markAssets, mergeObservations, overlapCounts, overlapProblems, sourceQuery } from './merge';
+import { convertPrices, createNewAssets, hasKnownAssets, largeReturnWarnings, markAssets, mergeObservations, newSymbolsAmong, overlapCounts, overlapProblems, sourceQuery } from './merge';
 import { ProblemLog, problemsFile } from './problems';
 import { StreamedMerge } from './streamMerge';
 import { reportProgress } from './progress';
@@ -355,6 +355,7 @@ export async function runImport(knex: Knex, request: ImportRequest): Promise<Imp
       assetsFound: scan.symbols.filter((_, i) => scan.days[i].count > 0).length, assetsNew: 0,
     };
     const newSymbols = new Set<string>();
+    let symbolsClassified = false; // set where the merge path has told new from known assets
     const merged = streamed as StreamedMerge | null;
     if (merged && merged.overlapping > 0) {
       counts.rejected = merged.overlapping;
@@ -370,6 +371,7 @@ export async function runImport(knex: Knex, request: ImportRequest): Promise<Imp
       const { rows: created } = await connection.query<{ symbol: string }>('SELECT symbol FROM import_symbols WHERE created');
       created.forEach((r) => newSymbols.add(r.symbol));
       counts.assetsNew = merged.assetsNew;
+      symbolsClassified = true;
       counts.observations = scan.staged;
       counts.inserted = merged.inserted;
       counts.replaced = merged.replaced;
@@ -388,6 +390,7 @@ export async function runImport(knex: Knex, request: ImportRequest): Promise<Imp
       const { rows: fresh } = await connection.query<{ symbol: string }>('SELECT symbol FROM import_symbols WHERE asset_id IS NULL');
       fresh.forEach((r) => newSymbols.add(r.symbol));
       counts.assetsNew = fresh.length;
+      symbolsClassified = true;
       if (options.valueKind === 'price') {
         counts.firstPrices = await convertPrices(connection);
         await largeReturnWarnings(connection, options.returnThreshold, (p) => log.add(p));
@@ -420,6 +423,14 @@ export async function runImport(knex: Knex, request: ImportRequest): Promise<Imp
         lap('merge');
         await markAssets(connection, batchId);
       }
+    }
+
+    if (!symbolsClassified) {
+      // Errors (or an unconfirmed re-import) stopped the merge path: the summary still tells new assets from known.
+      const found = scan.symbols.filter((_, i) => scan.days[i].count > 0);
+      const fresh = await newSymbolsAmong(connection, found);
+      fresh.forEach((symbol) => newSymbols.add(symbol));
+      counts.assetsNew = fresh.length;
     }
 
     await log.close();
@@ -522,7 +533,8 @@ function batchColumns(summary: ImportSummary, request: ImportRequest) {
     replaced: counts.replaced,
     skipped: counts.skipped + counts.unchanged,
     rejected: counts.rejected,
-    assets_created: counts.assetsNew,
+    // A rejected file created nothing, though its summary counts the new assets it names.
+    assets_created: summary.status === 'rejected' ? 0 : counts.assetsNew,
     problem_count: summary.errorCount + summary.warningCount,
     warning_count: summary.warningCount,
     problems: JSON.stringify(summary.problems),

@@ -140,6 +140,22 @@ export async function mergeObservations(
   return { inserted, replaced: 0, unchanged: 0, skipped: existing };
 }
 
+/**
+ * Which of the file's symbols name no asset stored before this import. Answers the preview's new/known split when
+ * the merge path did not run (a file with errors, an unconfirmed re-import): whether an asset is new does not
+ * depend on the file's other rows. Assets a streamed commit already created in this transaction count as new.
+ */
+export async function newSymbolsAmong(connection: pg.ClientBase, symbols: string[]): Promise<string[]> {
+  if (!symbols.length) return [];
+  const { rows } = await connection.query<{ symbol: string }>(
+    `SELECT f.symbol FROM unnest($1::text[]) AS f(symbol)
+      WHERE NOT EXISTS (SELECT 1 FROM assets a WHERE a.symbol = f.symbol)
+         OR EXISTS (SELECT 1 FROM import_symbols s WHERE s.symbol = f.symbol AND s.created)`,
+    [symbols],
+  );
+  return rows.map((r) => r.symbol);
+}
+
 /** True when some of the file's assets were stored before this import (so overlaps are possible). */
 export async function hasKnownAssets(connection: pg.ClientBase): Promise<boolean> {
   const { rows } = await connection.query<{ known: boolean }>('SELECT EXISTS (SELECT 1 FROM import_symbols WHERE NOT created) AS known');

@@ -143,7 +143,14 @@ const ASSET_COLUMNS: ColDef<AssetRow>[] = [
   { field: 'observations', headerName: 'Values', type: 'figure' },
   { field: 'firstDate', headerName: 'First', type: 'date' },
   { field: 'lastDate', headerName: 'Last', type: 'date' },
-  { field: 'isNew', headerName: 'New asset', valueFormatter: (p) => (p.value ? 'new' : '') },
+  // A word, not a checkbox: AG Grid draws a boolean field as a checkbox, so the value is turned into text first.
+  {
+    colId: 'isNew',
+    headerName: 'New asset',
+    cellDataType: 'text',
+    valueGetter: (p) => (p.data?.isNew ? 'new' : 'known'),
+    cellRenderer: (p: { value: string }) => (p.value === 'new' ? <StatusBadge tone="info">new</StatusBadge> : <span className="text-ink-soft">known</span>),
+  },
 ];
 
 function AssetMetadataCard() {
