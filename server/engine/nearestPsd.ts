@@ -3,9 +3,10 @@
  * nearest correlation matrix — a problem from finance", IMA J. Numer. Anal. 22, Algorithm 3.3), used to repair
  * pairwise-complete covariance estimates that are not positive semidefinite. The covariance is scaled to a
  * correlation matrix, repaired (unit diagonal kept) and scaled back, so every variance is preserved.
- * Each iteration takes a full symmetric eigendecomposition (ml-matrix): meant for the dense estimators only.
+ * Each iteration takes a full symmetric eigendecomposition: meant for the dense estimators only.
  */
-import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { symmetricEigen } from './linalg/eigen';
+import { multiplyABt } from './linalg/dense';
 
 export interface NearestPsdResult {
   matrix: Float64Array;
@@ -16,24 +17,23 @@ export interface NearestPsdResult {
   minimumEigenvalueBefore: number;
 }
 
+/**
+ * Projection onto the PSD cone with eigenvalues floored at `floor`: V diag(max(λ, floor)) Vᵀ, formed as B Bᵀ with
+ * B = V diag(√max(λ, floor)). The eigendecomposition is the engine's (LAPACK dsyevd through the native addon when
+ * built, else the JS tred2/tql2) and the product its multiplyABt: measured at N = 1000 one projection took about 10 s
+ * through ml-matrix and element-wise products, so a pairwise estimate at N = 1000, T = 750 needed 143 s to repair.
+ */
 function projectPsd(a: Float64Array, n: number, floor: number): { out: Float64Array; minEig: number } {
-  const rows = Array.from({ length: n }, (_, i) => Array.from(a.subarray(i * n, (i + 1) * n)));
-  const evd = new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true });
-  const vals = evd.realEigenvalues;
-  const vecs = evd.eigenvectorMatrix;
-  const out = new Float64Array(n * n);
+  const { values, vectors } = symmetricEigen(a, n);
   let minEig = Infinity;
+  const root = new Float64Array(n);
   for (let k = 0; k < n; k++) {
-    minEig = Math.min(minEig, vals[k]);
-    const lam = Math.max(vals[k], floor);
-    if (lam === 0) continue;
-    for (let i = 0; i < n; i++) {
-      const vik = vecs.get(i, k) * lam;
-      if (vik === 0) continue;
-      for (let j = 0; j < n; j++) out[i * n + j] += vik * vecs.get(j, k);
-    }
+    minEig = Math.min(minEig, values[k]);
+    root[k] = Math.sqrt(Math.max(values[k], floor));
   }
-  return { out, minEig };
+  const b = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) for (let k = 0; k < n; k++) b[i * n + k] = vectors[i * n + k] * root[k];
+  return { out: multiplyABt(b, n, n, b, n, undefined, true), minEig };
 }
 
 /** Nearest positive-semidefinite covariance with the same variances (Higham 2002 on the correlation scale). */
