@@ -22,36 +22,49 @@ import { useAsset, useCoverage, useDataQuality, useImportBatch, useImportBatches
 
 const pct = (digits: number) => (p: { value: unknown }) => (typeof p.value === 'number' ? `${(p.value * 100).toFixed(digits)} %` : '—');
 
+// Minimum widths hold each column's figures and its (wrapped) header, so every column
+// fits beside the rail at 1400 px; below that the grid scrolls sideways. Name and sector take what is left.
 const QUALITY_COLUMNS: ColDef<AssetQuality>[] = [
-  { field: 'symbol', headerName: 'Symbol', cellClass: 'll-figure', minWidth: 100 },
-  { field: 'name', headerName: 'Name', minWidth: 180 },
-  { field: 'sector', headerName: 'Sector', minWidth: 130 },
-  { field: 'firstDate', headerName: 'First', type: 'date' },
-  { field: 'lastDate', headerName: 'Last', type: 'date' },
-  { field: 'observations', headerName: 'Values', type: 'figure', minWidth: 90 },
-  { field: 'missingShare', headerName: 'Missing', type: 'figure', valueFormatter: pct(1), minWidth: 90 },
-  { field: 'mean', headerName: 'Mean', type: 'figure', valueFormatter: pct(3), minWidth: 90 },
-  { field: 'annualisedVolatility', headerName: 'Volatility (ann.)', type: 'figure', valueFormatter: pct(1), minWidth: 120 },
-  { field: 'min', headerName: 'Min', type: 'figure', valueFormatter: pct(2), minWidth: 90 },
-  { field: 'max', headerName: 'Max', type: 'figure', valueFormatter: pct(2), minWidth: 90 },
-  { field: 'outliers', headerName: 'Outliers', type: 'figure', minWidth: 90 },
-  { field: 'lastImportId', headerName: 'Last import', type: 'figure', valueFormatter: (p) => (p.value ? `#${p.value}` : '—'), minWidth: 100 },
-  { field: 'lastImportAt', headerName: 'Imported', type: 'timestamp', valueFormatter: (p) => formatDateTime(p.value) },
+  { field: 'symbol', headerName: 'Symbol', cellClass: 'll-figure', minWidth: 68 },
+  { field: 'name', headerName: 'Name', minWidth: 120, flex: 1.6 },
+  { field: 'sector', headerName: 'Sector', minWidth: 96, flex: 1.2 },
+  { field: 'firstDate', headerName: 'First', type: 'date', width: 96, minWidth: 96 },
+  { field: 'lastDate', headerName: 'Last', type: 'date', width: 96, minWidth: 96 },
+  { field: 'observations', headerName: 'Values', type: 'figure', minWidth: 64, flex: 0.6 },
+  { field: 'missingShare', headerName: 'Missing', type: 'figure', valueFormatter: pct(1), minWidth: 68, flex: 0.6 },
+  { field: 'mean', headerName: 'Mean', type: 'figure', valueFormatter: pct(3), minWidth: 80, flex: 0.6 },
+  { field: 'annualisedVolatility', headerName: 'Volatility (ann.)', type: 'figure', valueFormatter: pct(1), minWidth: 80, flex: 0.6 },
+  { field: 'min', headerName: 'Min', type: 'figure', valueFormatter: pct(2), minWidth: 80, flex: 0.6 },
+  { field: 'max', headerName: 'Max', type: 'figure', valueFormatter: pct(2), minWidth: 80, flex: 0.6 },
+  { field: 'outliers', headerName: 'Outliers', type: 'figure', minWidth: 68, flex: 0.6 },
+  {
+    // The batch number on screen, its time on hover and in the CSV (the batch's row in the import history below has both).
+    field: 'lastImportId',
+    headerName: 'Last import',
+    type: 'figure',
+    minWidth: 68,
+    flex: 0.6,
+    valueFormatter: (p) => (p.value ? `#${p.value}` : '—'),
+    cellRenderer: (p: { value: number | null; valueFormatted: string | null; data?: AssetQuality }) => (
+      <span title={p.data?.lastImportAt ? `Imported ${formatDateTime(p.data.lastImportAt)}` : undefined}>{p.valueFormatted ?? '—'}</span>
+    ),
+  },
+  { field: 'lastImportAt', headerName: 'Imported', type: 'timestamp', hide: true, valueFormatter: (p) => formatDateTime(p.value) },
 ];
 
 const BATCH_COLUMNS: ColDef<ImportBatch>[] = [
-  { field: 'id', headerName: 'Batch', type: 'figure', maxWidth: 90 },
+  { field: 'id', headerName: 'Batch', type: 'figure', minWidth: 60, maxWidth: 90 },
   { field: 'createdAt', headerName: 'When', type: 'timestamp', valueFormatter: (p) => formatDateTime(p.value) },
-  { field: 'userEmail', headerName: 'Who', minWidth: 180 },
-  { field: 'kind', headerName: 'Kind', maxWidth: 130 },
-  { field: 'status', headerName: 'Status', maxWidth: 120 },
-  { field: 'fileName', headerName: 'File', minWidth: 180 },
-  { field: 'rowsRead', headerName: 'Rows', type: 'figure' },
-  { field: 'inserted', headerName: 'Inserted', type: 'figure' },
-  { field: 'replaced', headerName: 'Replaced', type: 'figure' },
-  { field: 'skipped', headerName: 'Skipped', type: 'figure' },
-  { field: 'rejected', headerName: 'Rejected', type: 'figure' },
-  { field: 'durationMs', headerName: 'Took (ms)', type: 'figure' },
+  { field: 'userEmail', headerName: 'Who', minWidth: 130, flex: 1.4 },
+  { field: 'kind', headerName: 'Kind', minWidth: 90, maxWidth: 140 },
+  { field: 'status', headerName: 'Status', minWidth: 86, maxWidth: 120 },
+  { field: 'fileName', headerName: 'File', minWidth: 130, flex: 1.4 },
+  { field: 'rowsRead', headerName: 'Rows', type: 'figure', minWidth: 64, flex: 0.6 },
+  { field: 'inserted', headerName: 'Inserted', type: 'figure', minWidth: 70, flex: 0.6 },
+  { field: 'replaced', headerName: 'Replaced', type: 'figure', minWidth: 76, flex: 0.6 },
+  { field: 'skipped', headerName: 'Skipped', type: 'figure', minWidth: 70, flex: 0.6 },
+  { field: 'rejected', headerName: 'Rejected', type: 'figure', minWidth: 74, flex: 0.6 },
+  { field: 'durationMs', headerName: 'Took (ms)', type: 'figure', minWidth: 70, flex: 0.6 },
 ];
 
 type Revision = ImportBatchDetail['revisions'][number];

@@ -25,13 +25,13 @@ export default function ComparePage() {
   const c = compare.data;
   const columns = useMemo<ColDef<Row>[]>(
     () => [
-      { field: 'symbol', headerName: 'Symbol', pinned: 'left', cellClass: 'll-figure', minWidth: 110 },
-      { field: 'communalityFirst', headerName: `Communality ${c?.first.label ?? 'A'}`, type: 'figure', valueFormatter: sci },
-      { field: 'communalitySecond', headerName: `Communality ${c?.second.label ?? 'B'}`, type: 'figure', valueFormatter: sci },
-      { field: 'communalityChange', headerName: 'Change', type: 'figure', valueFormatter: sci },
-      { headerName: `Specific vol ${c?.first.label ?? 'A'} (%)`, type: 'figure', valueGetter: (p) => pct(p.data?.specificVolFirst), valueFormatter: fmt(2) },
-      { headerName: `Specific vol ${c?.second.label ?? 'B'} (%)`, type: 'figure', valueGetter: (p) => pct(p.data?.specificVolSecond), valueFormatter: fmt(2) },
-      { headerName: 'Change (pp)', type: 'figure', valueGetter: (p) => pct(p.data?.specificVolChange), valueFormatter: fmt(2, true) },
+      { field: 'symbol', headerName: 'Symbol', pinned: 'left', cellClass: 'll-figure', minWidth: 90, maxWidth: 130 },
+      { field: 'communalityFirst', headerName: `Communality ${c?.first.label ?? 'A'}`, type: 'figure', minWidth: 120, valueFormatter: sci },
+      { field: 'communalitySecond', headerName: `Communality ${c?.second.label ?? 'B'}`, type: 'figure', minWidth: 120, valueFormatter: sci },
+      { field: 'communalityChange', headerName: 'Change', type: 'figure', minWidth: 120, valueFormatter: sci },
+      { headerName: `Specific vol ${c?.first.label ?? 'A'} (%)`, type: 'figure', minWidth: 120, valueGetter: (p) => pct(p.data?.specificVolFirst), valueFormatter: fmt(2) },
+      { headerName: `Specific vol ${c?.second.label ?? 'B'} (%)`, type: 'figure', minWidth: 120, valueGetter: (p) => pct(p.data?.specificVolSecond), valueFormatter: fmt(2) },
+      { headerName: 'Change (pp)', type: 'figure', minWidth: 120, valueGetter: (p) => pct(p.data?.specificVolChange), valueFormatter: fmt(2, true) },
     ],
     [c],
   );

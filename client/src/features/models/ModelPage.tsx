@@ -22,12 +22,12 @@ type AssetRow = ModelResults['assetRows'][number];
 const percent = (v: number | null) => (v === null || v === undefined ? null : v * 100);
 
 const ASSET_COLUMNS: ColDef<AssetRow>[] = [
-  { field: 'symbol', headerName: 'Symbol', pinned: 'left', minWidth: 110, cellClass: 'll-figure' },
-  { field: 'name', headerName: 'Name', minWidth: 160 },
+  { field: 'symbol', headerName: 'Symbol', pinned: 'left', minWidth: 90, maxWidth: 130, cellClass: 'll-figure' },
+  { field: 'name', headerName: 'Name', minWidth: 160, flex: 1.6 },
   { field: 'sector', headerName: 'Sector', minWidth: 120 },
-  { field: 'communality', headerName: 'Communality', type: 'figure', valueFormatter: (p) => (p.value === null ? '—' : Number(p.value).toExponential(3)) },
-  { field: 'specificVolatility', headerName: 'Specific vol (ann. %)', type: 'figure', valueGetter: (p) => percent(p.data?.specificVolatility ?? null), valueFormatter: (p) => (p.value === null ? '—' : formatNumber(p.value, 2)) },
-  { field: 'factorShare', headerName: 'Factor share (%)', type: 'figure', valueGetter: (p) => percent(p.data?.factorShare ?? null), valueFormatter: (p) => (p.value === null ? '—' : formatNumber(p.value, 1)) },
+  { field: 'communality', headerName: 'Communality', type: 'figure', minWidth: 120, valueFormatter: (p) => (p.value === null ? '—' : Number(p.value).toExponential(3)) },
+  { field: 'specificVolatility', headerName: 'Specific vol (ann. %)', type: 'figure', minWidth: 120, valueGetter: (p) => percent(p.data?.specificVolatility ?? null), valueFormatter: (p) => (p.value === null ? '—' : formatNumber(p.value, 2)) },
+  { field: 'factorShare', headerName: 'Factor share (%)', type: 'figure', minWidth: 110, valueGetter: (p) => percent(p.data?.factorShare ?? null), valueFormatter: (p) => (p.value === null ? '—' : formatNumber(p.value, 1)) },
   { colId: 'heywood', headerName: 'Heywood', minWidth: 100, cellDataType: 'text', valueGetter: (p) => (p.data?.heywood ? 'at floor' : 'no') },
 ];
 
