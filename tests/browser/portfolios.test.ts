@@ -45,6 +45,49 @@ afterAll(async () => {
 
 const figure = (page: Page, id: string) => page.getByTestId(id).textContent();
 
+/** Opens the what-if grid's weight editor on one row (a click can land while the grid still settles), types, presses Enter. */
+async function typeWeight(page: Page, rowIndex: number, text: string): Promise<void> {
+  const grid = page.getByRole('region', { name: 'What-if weights' });
+  const cell = grid.locator(`[role="row"][row-index="${rowIndex}"] [role="gridcell"][col-id="value"]`);
+  const editor = cell.locator('input');
+  await expect
+    .poll(
+      async () => {
+        if (!(await editor.isVisible())) await cell.click();
+        return editor.isVisible();
+      },
+      { timeout: 15_000, interval: 500 },
+    )
+    .toBe(true);
+  await editor.fill(text);
+  await editor.press('Enter');
+}
+
+/** Waits until the FA volatility differs from `previous` and nothing is being recomputed; returns it. */
+async function volatilityChangedFrom(page: Page, previous: string | null): Promise<string | null> {
+  await page.waitForFunction(
+    (before) => {
+      const now = document.querySelector('[data-testid="vol-fa"]')?.textContent;
+      return now && now !== before && !document.body.textContent?.includes('Updating…');
+    },
+    previous,
+    { timeout: 15_000 },
+  );
+  return figure(page, 'vol-fa');
+}
+
+async function signInAsPm(page: Page): Promise<void> {
+  // The context is shared by the tests: sign in afresh (the sign-in page sends a signed-in user on).
+  await page.context().clearCookies();
+  await signInThroughUi(page, server.url, 'pm');
+}
+
+async function openRiskPage(page: Page): Promise<void> {
+  await signInAsPm(page);
+  await page.goto(`${server.url}/portfolios/${portfolioId}/risk?model=${runId}`);
+  await page.getByTestId('vol-fa').filter({ hasText: '%' }).waitFor();
+}
+
 describe('portfolio risk page', () => {
   it('a PM sees the volatilities side by side, edits a weight and sees the figures change', async () => {
     const page = await browser.context.newPage();
@@ -101,6 +144,83 @@ describe('portfolio risk page', () => {
     // Nothing was saved.
     const stored = await knex('portfolio_holdings').where({ portfolio_id: portfolioId }).orderBy('position').first();
     expect(stored.weight).toBe(0.125);
+    await page.close();
+  });
+
+  it('marks a what-if weight that is not a number and sends no what-if until the row is fixed', async () => {
+    const page = await browser.context.newPage();
+    await openRiskPage(page);
+    let whatIfRequests = 0;
+    page.on('request', (request) => {
+      if (request.method() === 'POST' && request.url().includes('/risk/what-if')) whatIfRequests += 1;
+    });
+    const saved = await figure(page, 'vol-fa');
+    await page.getByRole('button', { name: 'Edit weights (what-if)' }).click();
+    await typeWeight(page, 0, '40');
+    const valid = await volatilityChangedFrom(page, saved);
+    await expect(page.getByTestId('what-if-status').textContent()).resolves.toMatch(/What-if figures for the edited weights, not saved.*Edited weights sum to 127\.50 %/);
+    // Every figure card says it shows the what-if, not only the settings.
+    await expect(page.getByRole('heading', { name: /Predicted volatility, side by side \(annualised\)\s*What-if/ }).count()).resolves.toBe(1);
+    await expect(page.getByRole('heading', { name: /Value at risk and expected shortfall.*What-if/ }).count()).resolves.toBe(1);
+
+    // A weight that is not a number stays visible, is named on its row and above the figures, and nothing is sent.
+    const requestsBefore = whatIfRequests;
+    await typeWeight(page, 1, 'abc');
+    const grid = page.getByRole('region', { name: 'What-if weights' });
+    const row = grid.locator('[role="row"][row-index="1"]');
+    await expect(row.locator('[col-id="value"]').textContent()).resolves.toBe('abc');
+    await expect(row.locator('[col-id="problems"]').textContent()).resolves.toBe('weight “abc” is not a number');
+    const status = page.getByTestId('what-if-status');
+    await status.getByText('Fix the marked rows to update the figures').waitFor();
+    await expect(status.textContent()).resolves.toContain(`row 2 (${symbols[1]}): weight “abc” is not a number`);
+    // Longer than the 350 ms debounce: the figures stay those of the last valid weights and no request went out.
+    await page.waitForTimeout(1200);
+    expect(whatIfRequests).toBe(requestsBefore);
+    await expect(figure(page, 'vol-fa')).resolves.toBe(valid);
+    expect(await page.getByText('Updating…').count()).toBe(0);
+    await page.screenshot({ path: join(tmpdir(), 'loadline-portfolio-risk-invalid-weight.png'), fullPage: true });
+
+    // Fixed: the figures follow again.
+    await typeWeight(page, 1, '20');
+    const fixed = await volatilityChangedFrom(page, valid);
+    expect(fixed).not.toBe(valid);
+    expect(whatIfRequests).toBeGreaterThan(requestsBefore);
+    await expect(row.locator('[col-id="problems"]').textContent()).resolves.toBe('');
+    await expect(page.getByTestId('what-if-status').textContent()).resolves.toMatch(/Edited weights sum to 135\.00 %/);
+    await page.close();
+  });
+
+  it('keeps the horizon as typed: cleared and retyped to 5 gives 5 trading days; out-of-range values are clamped with a message', async () => {
+    const page = await browser.context.newPage();
+    await openRiskPage(page);
+    const varTitle = (text: string) => page.getByRole('heading', { name: `Value at risk and expected shortfall, ${text}`, exact: true });
+    await varTitle('1 trading day').waitFor();
+    const horizon = page.getByLabel('Horizon (trading days)');
+    await horizon.click();
+    await horizon.press('End');
+    await horizon.press('Backspace');
+    await expect(horizon.inputValue()).resolves.toBe('');
+    await horizon.pressSequentially('5');
+    await expect(horizon.inputValue()).resolves.toBe('5');
+    await horizon.press('Enter');
+    await varTitle('5 trading days').waitFor({ timeout: 15_000 });
+    await expect(horizon.inputValue()).resolves.toBe('5');
+
+    await horizon.fill('300');
+    await horizon.press('Tab');
+    await page.getByText('The horizon runs from 1–260: 300 was set to 260.').waitFor();
+    await expect(horizon.inputValue()).resolves.toBe('260');
+    await varTitle('260 trading days').waitFor({ timeout: 15_000 });
+    await page.close();
+  });
+
+  it('a portfolio that does not exist shows only the not-found message', async () => {
+    const page = await browser.context.newPage();
+    await signInAsPm(page);
+    await page.goto(`${server.url}/portfolios/999999999/risk`);
+    await page.getByRole('heading', { name: 'Portfolio not found' }).waitFor();
+    expect(await page.getByText('Model and settings').count()).toBe(0);
+    expect(await page.getByRole('button', { name: 'Edit weights (what-if)' }).count()).toBe(0);
     await page.close();
   });
 });

@@ -1,13 +1,25 @@
 import { useCallback, useMemo } from 'react';
 import { AgGridReact } from 'ag-grid-react';
-import { ModuleRegistry, NumberEditorModule, TextEditorModule, type CellValueChangedEvent, type ColDef } from 'ag-grid-community';
+import { ModuleRegistry, TextEditorModule, type CellValueChangedEvent, type ColDef } from 'ag-grid-community';
 import { COLUMN_TYPES, loadlineGridTheme } from '../../components/DataGrid';
 import { formatNumber } from '../../components/Figure';
 
-// Editing needs the text and number editors on top of the modules the shared grid registers.
-ModuleRegistry.registerModules([TextEditorModule, NumberEditorModule]);
+// Editing needs the text editor on top of the modules the shared grid registers. Values are typed as text too, so an
+// entry that is not a number stays visible (and marked) instead of being blanked by a number input.
+ModuleRegistry.registerModules([TextEditorModule]);
 
-export type EditableHolding = { key: number; symbol: string; value: number | null; assetName: string | null };
+/** `valueText`: what was typed when it is not a number (then `value` is null), kept so the row can show and name it. */
+export type EditableHolding = { key: number; symbol: string; value: number | null; assetName: string | null; valueText?: string };
+
+/** A typed weight or market value: `12.5`, `-3`, `1e3`, with an optional trailing `%` and a typographic minus. */
+export function parseTypedNumber(input: unknown): { value: number | null; invalidText?: string } {
+  if (typeof input === 'number') return Number.isFinite(input) ? { value: input } : { value: null, invalidText: String(input) };
+  const text = String(input ?? '').trim();
+  if (!text) return { value: null };
+  const plain = text.replace(/\s*%$/, '').replace(/^[−–]/, '-');
+  const value = /^[+-]?(\d+\.?\d*|\.\d+)(e[+-]?\d+)?$/i.test(plain) ? Number(plain) : NaN;
+  return Number.isFinite(value) ? { value } : { value: null, invalidText: text };
+}
 
 let nextKey = 1;
 export function newHoldingKey(): number {
@@ -58,10 +70,18 @@ export function HoldingsGrid({
         colId: 'value',
         type: 'figure',
         editable: !readOnly,
-        cellEditor: 'agNumberCellEditor',
-        cellEditorParams: { precision: 6 },
+        cellEditor: 'agTextCellEditor',
         minWidth: 130,
-        valueFormatter: (p) => (p.value === null || p.value === undefined || Number.isNaN(p.value) ? '' : formatNumber(p.value, valueDigits)),
+        // The editor opens on the typed text when it was not a number, else on the number itself.
+        valueGetter: (p) => (p.data?.valueText !== undefined ? p.data.valueText : p.data?.value),
+        valueSetter: (p) => {
+          const parsed = parseTypedNumber(p.newValue);
+          p.data.value = parsed.value;
+          p.data.valueText = parsed.invalidText;
+          return true;
+        },
+        valueFormatter: (p) => (typeof p.value === 'string' ? p.value : p.value === null || p.value === undefined || Number.isNaN(p.value) ? '' : formatNumber(p.value, valueDigits)),
+        cellClassRules: { 'll-cell-invalid': (p) => p.data?.valueText !== undefined },
       },
       {
         headerName: 'Problems',
@@ -104,7 +124,8 @@ export function HoldingsGrid({
                 // A new symbol's asset name is known only after saving (AG Grid edits the row object in place,
                 // so the change is read from the event).
                 assetName: event.column.getColId() === 'symbol' && event.oldValue !== event.newValue ? null : updated.assetName,
-                value: updated.value === null || updated.value === undefined || Number.isNaN(Number(updated.value)) ? null : Number(updated.value),
+                value: typeof updated.value === 'number' && Number.isFinite(updated.value) ? updated.value : null,
+                valueText: updated.valueText,
               }
             : r,
         ),
@@ -133,17 +154,33 @@ export function HoldingsGrid({
   );
 }
 
-/** Local checks before saving (the server checks again and names the rows): empty or repeated symbols, missing values. */
-export function localProblems(rows: EditableHolding[], valueName: string): Map<number, string[]> {
+/** A row with nothing typed in it (a fresh "Add row"). */
+export const isBlankHolding = (r: EditableHolding) => !r.symbol && r.value === null && r.valueText === undefined;
+
+/**
+ * Local checks before saving or evaluating (the server checks again and names the rows): empty or repeated symbols,
+ * missing values and values that are not numbers. `ignoreBlankRows` leaves rows with nothing typed in them unmarked.
+ */
+export function localProblems(rows: EditableHolding[], valueName: string, { ignoreBlankRows = false } = {}): Map<number, string[]> {
   const problems = new Map<number, string[]>();
   const seen = new Map<string, number>();
   rows.forEach((r, i) => {
+    if (ignoreBlankRows && isBlankHolding(r)) return;
     const list: string[] = [];
     if (!r.symbol) list.push('symbol is empty');
     else if (seen.has(r.symbol)) list.push(`duplicates row ${seen.get(r.symbol)! + 1}`);
     else seen.set(r.symbol, i);
-    if (r.value === null || !Number.isFinite(r.value)) list.push(`${valueName} is missing`);
+    if (r.valueText !== undefined) list.push(`${valueName} “${r.valueText}” is not a number`);
+    else if (r.value === null || !Number.isFinite(r.value)) list.push(`${valueName} is missing`);
     if (list.length) problems.set(r.key, list);
   });
   return problems;
+}
+
+/** `row 3 (ACME): weight “abc” is not a number` for each marked row, in row order. */
+export function describeProblems(rows: EditableHolding[], problems: Map<number, string[]>): string[] {
+  return rows.flatMap((r, i) => {
+    const list = problems.get(r.key);
+    return list?.length ? [`row ${i + 1}${r.symbol ? ` (${r.symbol})` : ''}: ${list.join('; ')}`] : [];
+  });
 }

@@ -99,8 +99,8 @@ export default function PortfolioEditorPage() {
     setRows(
       rows.map((r) => {
         const held = data.holdings.find((h) => h.symbol === r.symbol);
-        if (next === 'weights') return { ...r, value: held ? held.weight * 100 : null };
-        return { ...r, value: held?.marketValue ?? (held ? Math.round(held.weight * 1_000_000) : null) };
+        if (next === 'weights') return { ...r, valueText: undefined, value: held ? held.weight * 100 : null };
+        return { ...r, valueText: undefined, value: held?.marketValue ?? (held ? Math.round(held.weight * 1_000_000) : null) };
       }),
     );
     setDirty(true);

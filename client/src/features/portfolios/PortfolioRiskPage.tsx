@@ -1,4 +1,4 @@
-import { useEffect, useMemo, useState } from 'react';
+import { useEffect, useMemo, useRef, useState, type ReactNode } from 'react';
 import { Link, useParams, useSearchParams } from 'react-router-dom';
 import type { ColDef } from 'ag-grid-community';
 import type { PortfolioRisk } from '@shared/schemas/portfolios';
@@ -7,18 +7,35 @@ import { PageHeader } from '../../components/PageHeader';
 import { Card } from '../../components/Card';
 import { Button } from '../../components/Button';
 import { Field } from '../../components/Field';
+import { ApiError } from '../../lib/api';
 import { Alert, ErrorAlert } from '../../components/Alert';
 import { Caution } from '../../components/Caution';
 import { DataGrid } from '../../components/DataGrid';
 import { Figure, formatNumber } from '../../components/Figure';
 import { StatusBadge } from '../../components/StatusBadge';
 import { FactorHistoryChart } from './FactorHistoryChart';
-import { HoldingsGrid, newHoldingKey, type EditableHolding } from './HoldingsGrid';
+import { HoldingsGrid, describeProblems, isBlankHolding, localProblems, newHoldingKey, type EditableHolding } from './HoldingsGrid';
+import { WholeNumberField } from './WholeNumberField';
 import { useApprovedModels, usePortfolio, usePortfolioRisk, useWhatIfRisk, type RiskParams, type WhatIfWeight } from './api';
 
 type Contributor = PortfolioRisk['contributors'][number];
 
 const pct = (x: number | null | undefined, digits = 2) => (x === null || x === undefined || Number.isNaN(x) ? '—' : `${formatNumber(x * 100, digits)} %`);
+
+/** How the model's periods read: 252 a year are trading days (daily), 52 weeks, 12 months; anything else "periods". */
+export function periodWords(periodsPerYear: number | undefined): { one: string; many: string; adjective: string } {
+  if (periodsPerYear === 252) return { one: 'trading day', many: 'trading days', adjective: 'daily' };
+  if (periodsPerYear === 52) return { one: 'week', many: 'weeks', adjective: 'weekly' };
+  if (periodsPerYear === 12) return { one: 'month', many: 'months', adjective: 'monthly' };
+  return { one: 'period', many: 'periods', adjective: 'per period' };
+}
+
+/** `approved 2026-12-02`, `draft`, `retired (approved 2026-11-02)`. */
+function lifecycleText(lifecycle: string, approvedAt: string | null): string {
+  const day = approvedAt ? approvedAt.slice(0, 10) : null;
+  if (!day) return lifecycle;
+  return lifecycle === 'approved' ? `approved ${day}` : `${lifecycle} (approved ${day})`;
+}
 
 function useDebounced<T>(value: T, ms: number): T {
   const [debounced, setDebounced] = useState(value);
@@ -42,10 +59,19 @@ export default function PortfolioRiskPage() {
   });
   const [editRows, setEditRows] = useState<EditableHolding[] | null>(null);
 
+  // Rows with nothing typed in them are left out; any other row that cannot be read is marked, and until every marked
+  // row is fixed the last valid weights stay in force (no what-if is sent for a partial portfolio).
+  const whatIfProblems = useMemo(() => (editRows ? localProblems(editRows, 'weight', { ignoreBlankRows: true }) : new Map<number, string[]>()), [editRows]);
+  const whatIfProblemLines = useMemo(() => (editRows ? describeProblems(editRows, whatIfProblems) : []), [editRows, whatIfProblems]);
+  const editedRows = useMemo(() => (editRows ?? []).filter((r) => !isBlankHolding(r)), [editRows]);
+  const whatIfBlocked = editRows !== null && (whatIfProblems.size > 0 || editedRows.length === 0);
+  const lastValidWeights = useRef<WhatIfWeight[] | null>(null);
   const whatIfWeights = useMemo<WhatIfWeight[] | null>(() => {
-    if (!editRows) return null;
-    return editRows.filter((r) => r.symbol && r.value !== null && Number.isFinite(r.value)).map((r) => ({ symbol: r.symbol, weight: (r.value as number) / 100 }));
-  }, [editRows]);
+    if (!editRows) return (lastValidWeights.current = null);
+    if (whatIfBlocked) return lastValidWeights.current;
+    return (lastValidWeights.current = editedRows.map((r) => ({ symbol: r.symbol, weight: (r.value as number) / 100 })));
+  }, [editRows, editedRows, whatIfBlocked]);
+  const editedSum = editedRows.reduce((s, r) => s + (r.value ?? 0), 0);
   const debouncedWeights = useDebounced(whatIfWeights, 350);
   const debouncedParams = useDebounced(params, 350);
   const saved = usePortfolioRisk(id, debouncedParams);
@@ -62,18 +88,40 @@ export default function PortfolioRiskPage() {
 
   const contributorColumns = useMemo<ColDef<Contributor>[]>(
     () => [
-      { field: 'symbol', headerName: 'Symbol', cellClass: 'll-figure', maxWidth: 130 },
+      { field: 'symbol', headerName: 'Symbol', cellClass: 'll-figure', minWidth: 90, maxWidth: 130 },
       { field: 'assetName', headerName: 'Asset', flex: 1.6, minWidth: 160, valueFormatter: (p) => p.value ?? '' },
-      { field: 'weight', headerName: 'Weight', type: 'figure', valueFormatter: (p) => pct(p.value) },
-      { field: 'marginal', headerName: 'Marginal (∂σ/∂w, ann.)', type: 'figure', valueFormatter: (p) => pct(p.value) },
-      { field: 'contribution', headerName: 'Contribution (ann.)', type: 'figure', valueFormatter: (p) => pct(p.value, 3) },
-      { field: 'percent', headerName: 'Share of variance', type: 'figure', sort: 'desc', comparator: (a: number, b: number) => Math.abs(a) - Math.abs(b), valueFormatter: (p) => pct(p.value) },
+      { field: 'weight', headerName: 'Weight', type: 'figure', minWidth: 100, valueFormatter: (p) => pct(p.value) },
+      { field: 'marginal', headerName: 'Marginal (∂σ/∂w, ann.)', type: 'figure', minWidth: 130, valueFormatter: (p) => pct(p.value) },
+      { field: 'contribution', headerName: 'Contribution (ann.)', type: 'figure', minWidth: 120, valueFormatter: (p) => pct(p.value, 3) },
+      { field: 'percent', headerName: 'Share of variance', type: 'figure', minWidth: 120, sort: 'desc', comparator: (a: number, b: number) => Math.abs(a) - Math.abs(b), valueFormatter: (p) => pct(p.value) },
     ],
     [],
   );
 
   const name = portfolio.data?.name ?? risk?.portfolio.name ?? 'Portfolio';
-  const periods = risk?.tailRisk.periodsLabel ?? 'periods';
+  const periods = periodWords(risk?.model.periodsPerYear);
+  // Cards showing figures say so when they are for the edited weights.
+  const figureTitle = (title: string): ReactNode =>
+    inWhatIf ? (
+      <span className="flex flex-wrap items-center gap-2">
+        {title} <StatusBadge tone="warn">What-if</StatusBadge>
+      </span>
+    ) : (
+      title
+    );
+
+  const missing = (portfolio.error instanceof ApiError && portfolio.error.status === 404) || (saved.error instanceof ApiError && saved.error.status === 404 && !portfolio.data);
+  if (missing || !(id > 0)) {
+    return (
+      <div className="flex flex-col gap-5">
+        <PageHeader title="Portfolio not found" actions={<Link to="/portfolios" className="text-sm text-ink-soft hover:text-ink">← Portfolios</Link>} />
+        <Alert tone="warn" title="No portfolio to show">
+          There is no portfolio {Number.isFinite(id) ? <span className="font-mono">#{id}</span> : 'at this address'} that you can open. It may have been deleted, or belong to
+          another portfolio manager. <Link to="/portfolios" className="font-medium text-accent underline">See your portfolios</Link>.
+        </Alert>
+      </div>
+    );
+  }
   const percentSum = risk ? risk.contributors.reduce((s, c) => s + c.percent, risk.otherContributors?.percent ?? 0) : null;
 
   return (
@@ -83,8 +131,7 @@ export default function PortfolioRiskPage() {
         description={
           risk ? (
             <>
-              Model <span className="font-mono">{risk.model.label}</span> ({ESTIMATOR_LABELS[risk.model.method]}, {risk.model.lifecycle}
-              {risk.model.approvedAt ? `, approved ${risk.model.approvedAt.slice(0, 10)}` : ''}) · window {risk.model.windowStart} to {risk.model.windowEnd} · {risk.model.assets} assets ×{' '}
+              Model <span className="font-mono">{risk.model.label}</span> ({ESTIMATOR_LABELS[risk.model.method]}, {lifecycleText(risk.model.lifecycle, risk.model.approvedAt)}) · window {risk.model.windowStart} to {risk.model.windowEnd} · {risk.model.assets} assets ×{' '}
               {risk.model.observations} observations{risk.model.factors ? ` · ${risk.model.factors} factors` : ''}
             </>
           ) : (
@@ -118,9 +165,7 @@ export default function PortfolioRiskPage() {
               ))}
             </select>
           </Field>
-          <Field label={`Horizon (${periods})`}>
-            <input type="number" min={1} max={260} className="field-input w-28" value={params.horizon} onChange={(e) => setParams({ ...params, horizon: Math.min(260, Math.max(1, Math.round(Number(e.target.value) || 1))) })} />
-          </Field>
+          <WholeNumberField label={`Horizon (${periods.many})`} what="The horizon" value={params.horizon} min={1} max={260} onCommit={(horizon) => setParams((p) => ({ ...p, horizon }))} />
           <Field label="Monte Carlo draws">
             <select className="field-input" value={params.draws} onChange={(e) => setParams({ ...params, draws: Number(e.target.value) })}>
               {[5_000, 10_000, 50_000, 100_000].map((d) => (
@@ -130,10 +175,8 @@ export default function PortfolioRiskPage() {
               ))}
             </select>
           </Field>
-          <Field label="Seed">
-            <input type="number" min={0} className="field-input w-32" value={params.seed} onChange={(e) => setParams({ ...params, seed: Math.max(0, Math.round(Number(e.target.value) || 0)) })} />
-          </Field>
-          <div className="ml-auto flex items-center gap-2">
+          <WholeNumberField label="Seed" what="The seed" className="w-32" value={params.seed} min={0} max={2 ** 31 - 1} onCommit={(seed) => setParams((p) => ({ ...p, seed }))} />
+          <div className="ml-auto flex items-center gap-2 self-center">
             {inWhatIf ? <StatusBadge tone="warn">What-if: not saved</StatusBadge> : null}
             <span aria-live="polite" className="text-xs text-ink-faint">
               {updating ? 'Updating…' : risk ? `Computed in ${risk.elapsedMs.toFixed(1)} ms` : ''}
@@ -144,6 +187,8 @@ export default function PortfolioRiskPage() {
 
       <ErrorAlert error={error} title={inWhatIf ? 'The what-if weights cannot be evaluated' : 'Risk cannot be shown'} />
 
+      {inWhatIf ? <WhatIfStatus blocked={whatIfBlocked} problems={whatIfProblemLines} sum={editedSum} holdings={editedRows.length} shown={whatIf.data !== undefined} /> : null}
+
       {risk ? (
         <>
           {risk.uncovered.length ? (
@@ -152,7 +197,7 @@ export default function PortfolioRiskPage() {
             </Alert>
           ) : null}
           <div className="grid grid-cols-1 gap-5 xl:grid-cols-2">
-            <Card title="Predicted volatility, side by side (annualised)">
+            <Card title={figureTitle('Predicted volatility, side by side (annualised)')}>
               <table className="w-full text-sm" aria-label="Predicted volatility">
                 <thead>
                   <tr className="border-b border-line text-left text-xs text-ink-soft">
@@ -192,10 +237,10 @@ export default function PortfolioRiskPage() {
               ) : null}
             </Card>
 
-            <Card title="Factor and specific risk, tracking error">
+            <Card title={figureTitle('Factor and specific risk, tracking error')}>
               <div className="grid grid-cols-2 gap-4">
                 <Figure label="Volatility, this model (annualised)" value={risk.annualisedVolatility * 100} unit="%" size="lg" />
-                <Figure label="Volatility per period" value={risk.volatility * 100} unit="%" digits={3} size="lg" />
+                <Figure label={periods.adjective === 'per period' ? 'Volatility per period' : `Volatility, ${periods.adjective}`} value={risk.volatility * 100} unit="%" digits={3} size="lg" />
                 {risk.split ? (
                   <div className="col-span-2">
                     <p className="mb-1 text-xs font-medium text-ink-soft">Share of variance</p>
@@ -226,7 +271,7 @@ export default function PortfolioRiskPage() {
               </div>
             </Card>
 
-            <Card title={`Value at risk and expected shortfall, ${risk.tailRisk.horizon} ${periods}`}>
+            <Card title={figureTitle(`Value at risk and expected shortfall, ${risk.tailRisk.horizon} ${risk.tailRisk.horizon === 1 ? periods.one : periods.many}`)}>
               <table className="w-full text-sm" aria-label="Value at risk and expected shortfall">
                 <thead>
                   <tr className="border-b border-line text-left text-xs text-ink-soft">
@@ -262,23 +307,23 @@ export default function PortfolioRiskPage() {
                 </tbody>
               </table>
               <p className="mt-2 text-xs text-ink-soft">
-                Losses as a share of portfolio value, zero mean. Monte Carlo draws from the fitted generative model (simulated volatility per period{' '}
+                Losses as a share of portfolio value, zero mean. Monte Carlo draws from the fitted generative model (simulated volatility {periods.adjective}{' '}
                 <span className="font-mono">{pct(risk.tailRisk.monteCarlo.simulatedVolatility, 3)}</span>); both scale to the horizon by the square root of time.
               </p>
             </Card>
 
-            <Card title="Exposure summary">
+            <Card title={figureTitle('Exposure summary')}>
               {risk.exposure ? (
                 <div className="flex flex-col gap-3">
                   <div className="grid grid-cols-2 gap-4">
                     <Figure label="Factor variance share (rotation-invariant)" value={risk.exposure.factorVarianceShare * 100} unit="%" />
-                    <Figure label="Exposure norm ‖Wᵀw‖ per period (rotation-invariant)" value={risk.exposure.exposureNorm * 100} unit="%" digits={3} />
+                    <Figure label={`Exposure norm ‖Wᵀw‖, ${periods.adjective} (rotation-invariant)`} value={risk.exposure.exposureNorm * 100} unit="%" digits={3} />
                   </div>
                   <table className="w-full text-sm" aria-label="Exposures to the canonical factors">
                     <thead>
                       <tr className="border-b border-line text-left text-xs text-ink-soft">
                         <th className="py-1 font-medium">Canonical factor</th>
-                        <th className="py-1 text-right font-medium">Exposure (Wᵀw, % per period)</th>
+                        <th className="py-1 text-right font-medium">Exposure (Wᵀw, % {periods.adjective})</th>
                       </tr>
                     </thead>
                     <tbody>
@@ -299,13 +344,13 @@ export default function PortfolioRiskPage() {
           </div>
 
           {risk.factorReturnHistory ? (
-            <Card title="Factor return history over the estimation window">
+            <Card title={figureTitle('Factor return history over the estimation window')}>
               <FactorHistoryChart points={risk.factorReturnHistory} />
               <p className="mt-1 text-xs text-ink-soft">From the stored factor scores E[z_t | x_t] weighted by the portfolio's exposures Wᵀw. Past factor returns do not predict future ones.</p>
             </Card>
           ) : null}
 
-          <Card title="Contributors to volatility (Euler)">
+          <Card title={figureTitle('Contributors to volatility (Euler)')}>
             <DataGrid<Contributor>
               rows={risk.contributors}
               columns={contributorColumns}
@@ -341,20 +386,58 @@ export default function PortfolioRiskPage() {
         {inWhatIf && editRows ? (
           <div className="flex flex-col gap-2">
             <p className="text-sm text-ink-soft">
-              Edit weights in % (they need not sum to 100 %; now <span className="font-mono">{formatNumber(editRows.reduce((s, r) => s + (r.value ?? 0), 0), 2)} %</span>). Every figure above follows; nothing is saved.
+              Edit weights in % (they need not sum to 100 %; now <span className="font-mono">{formatNumber(editedSum, 2)} %</span>). Every figure above follows; nothing is saved. Rows left
+              blank are ignored.
             </p>
+            {whatIfProblemLines.length ? <p className="text-sm font-medium text-breach">Fix the marked rows to update the figures.</p> : null}
             <div>
               <Button size="sm" onClick={() => setEditRows([...editRows, { key: newHoldingKey(), symbol: '', assetName: null, value: null }])}>
                 Add row
               </Button>
             </div>
-            <HoldingsGrid rows={editRows} onChange={setEditRows} valueLabel="Weight (%)" valueDigits={4} height={320} ariaLabel="What-if weights" />
+            <HoldingsGrid rows={editRows} onChange={setEditRows} valueLabel="Weight (%)" valueDigits={4} problems={whatIfProblems} height={320} ariaLabel="What-if weights" />
           </div>
         ) : (
           <p className="text-sm text-ink-soft">Change weights here to see every figure on this page recomputed for the edited portfolio, without saving.</p>
         )}
       </Card>
       <Caution compact />
+    </div>
+  );
+}
+
+/** Above the figures in what-if mode: they are for the edited weights (their sum), or why they have not followed. */
+function WhatIfStatus({ blocked, problems, sum, holdings, shown }: { blocked: boolean; problems: string[]; sum: number; holdings: number; shown: boolean }) {
+  const summary = (
+    <>
+      Edited weights sum to <span className="font-mono tabular-nums" data-testid="what-if-sum">{formatNumber(sum, 2)} %</span> over {holdings} holding{holdings === 1 ? '' : 's'}.
+    </>
+  );
+  if (blocked)
+    return (
+      <div data-testid="what-if-status">
+        <Alert tone="warn" title="Fix the marked rows to update the figures">
+          {problems.length ? (
+            <ul className="list-disc pl-4">
+              {problems.slice(0, 10).map((line) => (
+                <li key={line}>{line}</li>
+              ))}
+              {problems.length > 10 ? <li>and {problems.length - 10} more rows</li> : null}
+            </ul>
+          ) : (
+            <p>Give at least one holding a weight.</p>
+          )}
+          <p className="mt-1">
+            {shown ? 'The figures below are still those of the last weights that could be read.' : 'The figures below are still those of the saved weights.'} {summary}
+          </p>
+        </Alert>
+      </div>
+    );
+  return (
+    <div data-testid="what-if-status">
+      <Alert tone="info" title="What-if figures for the edited weights, not saved">
+        {summary} The saved portfolio is unchanged; “Back to saved weights” returns to it.
+      </Alert>
     </div>
   );
 }
