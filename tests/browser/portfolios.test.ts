@@ -45,9 +45,9 @@ afterAll(async () => {
 
 const figure = (page: Page, id: string) => page.getByTestId(id).textContent();
 
-/** Opens the what-if grid's weight editor on one row (a click can land while the grid still settles), types, presses Enter. */
-async function typeWeight(page: Page, rowIndex: number, text: string): Promise<void> {
-  const grid = page.getByRole('region', { name: 'What-if weights' });
+/** Opens a holdings grid's value editor on one row (a click can land while the grid still settles), types, presses Enter. */
+async function typeWeight(page: Page, rowIndex: number, text: string, gridName = 'What-if weights'): Promise<void> {
+  const grid = page.getByRole('region', { name: gridName });
   const cell = grid.locator(`[role="row"][row-index="${rowIndex}"] [role="gridcell"][col-id="value"]`);
   const editor = cell.locator('input');
   await expect
@@ -221,6 +221,20 @@ describe('portfolio risk page', () => {
     await page.getByRole('heading', { name: 'Portfolio not found' }).waitFor();
     expect(await page.getByText('Model and settings').count()).toBe(0);
     expect(await page.getByRole('button', { name: 'Edit weights (what-if)' }).count()).toBe(0);
+    await page.close();
+  });
+
+  it('the holdings editor keeps a weight that is not a number, names it on its row and will not save', async () => {
+    const page = await browser.context.newPage();
+    await signInAsPm(page);
+    await page.goto(`${server.url}/portfolios/${portfolioId}`);
+    await typeWeight(page, 2, '12,5x', 'Holdings');
+    const row = page.getByRole('region', { name: 'Holdings' }).locator('[role="row"][row-index="2"]');
+    await expect(row.locator('[col-id="value"]').textContent()).resolves.toBe('12,5x');
+    await expect(row.locator('[col-id="problems"]').textContent()).resolves.toBe('weight “12,5x” is not a number');
+    await expect(page.getByRole('button', { name: 'Save holdings' }).isDisabled()).resolves.toBe(true);
+    const stored = await knex('portfolio_holdings').where({ portfolio_id: portfolioId }).orderBy('position');
+    expect(stored.map((h) => h.weight)).toEqual(Array(8).fill(0.125));
     await page.close();
   });
 });
