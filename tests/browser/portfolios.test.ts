@@ -111,30 +111,9 @@ describe('portfolio risk page', () => {
 
     // What-if: raise the first holding's weight from 12.5 % to 40 %.
     await page.getByRole('button', { name: 'Edit weights (what-if)' }).click();
-    const grid = page.getByRole('region', { name: 'What-if weights' });
-    const cell = grid.locator('[role="gridcell"][col-id="value"]').first();
-    const editor = grid.locator('[role="gridcell"][col-id="value"] input').first();
-    // A click can land while the grid is still settling its first render: click until the editor opens.
-    await expect
-      .poll(
-        async () => {
-          if (!(await editor.isVisible())) await cell.click();
-          return editor.isVisible();
-        },
-        { timeout: 15_000, interval: 500 },
-      )
-      .toBe(true);
-    await editor.fill('40');
-    await editor.press('Enter');
+    await typeWeight(page, 0, '40');
     await page.getByText('What-if: not saved').waitFor();
-    await page.waitForFunction(
-      (previous) => {
-        const now = document.querySelector('[data-testid="vol-fa"]')?.textContent;
-        return now && now !== previous && !document.body.textContent?.includes('Updating…');
-      },
-      before.fa,
-      { timeout: 15_000 },
-    );
+    await volatilityChangedFrom(page, before.fa);
     const after = { fa: await figure(page, 'vol-fa'), sample: await figure(page, 'vol-sample'), lw: await figure(page, 'vol-ledoit-wolf') };
     expect(after.fa).not.toBe(before.fa);
     expect(after.sample).not.toBe(before.sample);
