@@ -110,8 +110,8 @@ export default function PortfolioRiskPage() {
       title
     );
 
-  const missing = (portfolio.error instanceof ApiError && portfolio.error.status === 404) || (saved.error instanceof ApiError && saved.error.status === 404 && !portfolio.data);
-  if (missing || !(id > 0)) {
+  // The settings and what-if controls wait for the portfolio: a missing one (or another manager's) shows only this.
+  if (!(id > 0) || (portfolio.error instanceof ApiError && portfolio.error.status === 404)) {
     return (
       <div className="flex flex-col gap-5">
         <PageHeader title="Portfolio not found" actions={<Link to="/portfolios" className="text-sm text-ink-soft hover:text-ink">← Portfolios</Link>} />
@@ -122,6 +122,7 @@ export default function PortfolioRiskPage() {
       </div>
     );
   }
+  if (portfolio.isPending) return <p className="text-sm text-ink-soft">Loading the portfolio…</p>;
   const percentSum = risk ? risk.contributors.reduce((s, c) => s + c.percent, risk.otherContributors?.percent ?? 0) : null;
 
   return (
