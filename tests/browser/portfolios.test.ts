@@ -45,10 +45,13 @@ afterAll(async () => {
 
 const figure = (page: Page, id: string) => page.getByTestId(id).textContent();
 
-/** Opens a holdings grid's value editor on one row (a click can land while the grid still settles), types, presses Enter. */
-async function typeWeight(page: Page, rowIndex: number, text: string, gridName = 'What-if weights'): Promise<void> {
+/**
+ * Opens a holdings grid's editor on one cell (a click can land while the grid still settles), types, presses Enter.
+ * `column`: 'value' (the weight) or 'symbol'.
+ */
+async function typeWeight(page: Page, rowIndex: number, text: string, gridName = 'What-if weights', column = 'value'): Promise<void> {
   const grid = page.getByRole('region', { name: gridName });
-  const cell = grid.locator(`[role="row"][row-index="${rowIndex}"] [role="gridcell"][col-id="value"]`);
+  const cell = grid.locator(`[role="row"][row-index="${rowIndex}"] [role="gridcell"][col-id="${column}"]`);
   const editor = cell.locator('input');
   await expect
     .poll(
@@ -147,8 +150,8 @@ describe('portfolio risk page', () => {
     await typeWeight(page, 1, 'abc');
     const grid = page.getByRole('region', { name: 'What-if weights' });
     const row = grid.locator('[role="row"][row-index="1"]');
-    await expect(row.locator('[col-id="value"]').textContent()).resolves.toBe('abc');
-    await expect(row.locator('[col-id="problems"]').textContent()).resolves.toBe('weight “abc” is not a number');
+    await expect.poll(() => row.locator('[col-id="value"]').textContent()).toBe('abc');
+    await expect.poll(() => row.locator('[col-id="problems"]').textContent()).toBe('weight “abc” is not a number');
     const status = page.getByTestId('what-if-status');
     await status.getByText('Fix the marked rows to update the figures').waitFor();
     await expect(status.textContent()).resolves.toContain(`row 2 (${symbols[1]}): weight “abc” is not a number`);
@@ -164,8 +167,15 @@ describe('portfolio risk page', () => {
     const fixed = await volatilityChangedFrom(page, valid);
     expect(fixed).not.toBe(valid);
     expect(whatIfRequests).toBeGreaterThan(requestsBefore);
-    await expect(row.locator('[col-id="problems"]').textContent()).resolves.toBe('');
+    await expect.poll(() => row.locator('[col-id="problems"]').textContent()).toBe('');
     await expect(page.getByTestId('what-if-status').textContent()).resolves.toMatch(/Edited weights sum to 135\.00 %/);
+
+    // A symbol only the server can judge: its answer is shown on the row holding that symbol.
+    const unknown = `${prefix}ZZ`;
+    await typeWeight(page, 2, unknown, 'What-if weights', 'symbol');
+    await page.getByText('The what-if weights cannot be evaluated').waitFor({ timeout: 15_000 });
+    const third = grid.locator('[role="row"][row-index="2"]');
+    await expect.poll(() => third.locator('[col-id="problems"]').textContent()).toBe(`unknown symbol '${unknown}'`);
     await page.close();
   });
 
@@ -209,8 +219,8 @@ describe('portfolio risk page', () => {
     await page.goto(`${server.url}/portfolios/${portfolioId}`);
     await typeWeight(page, 2, '12,5x', 'Holdings');
     const row = page.getByRole('region', { name: 'Holdings' }).locator('[role="row"][row-index="2"]');
-    await expect(row.locator('[col-id="value"]').textContent()).resolves.toBe('12,5x');
-    await expect(row.locator('[col-id="problems"]').textContent()).resolves.toBe('weight “12,5x” is not a number');
+    await expect.poll(() => row.locator('[col-id="value"]').textContent()).toBe('12,5x');
+    await expect.poll(() => row.locator('[col-id="problems"]').textContent()).toBe('weight “12,5x” is not a number');
     await expect(page.getByRole('button', { name: 'Save holdings' }).isDisabled()).resolves.toBe(true);
     const stored = await knex('portfolio_holdings').where({ portfolio_id: portfolioId }).orderBy('position');
     expect(stored.map((h) => h.weight)).toEqual(Array(8).fill(0.125));

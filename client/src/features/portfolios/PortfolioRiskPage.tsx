@@ -77,6 +77,18 @@ export default function PortfolioRiskPage() {
   const saved = usePortfolioRisk(id, debouncedParams);
   const whatIf = useWhatIfRisk(id, debouncedParams, debouncedWeights);
   const inWhatIf = editRows !== null;
+  // The server's problems with the weights it was sent (unknown symbols) go on the rows holding those symbols.
+  const gridProblems = useMemo(() => {
+    const merged = new Map(whatIfProblems);
+    if (!(whatIf.error instanceof ApiError) || !debouncedWeights || !editRows) return merged;
+    for (const issue of whatIf.error.issues) {
+      const index = /^holdings\.(\d+)\./.exec(issue.path)?.[1];
+      const symbol = index === undefined ? undefined : debouncedWeights[Number(index)]?.symbol;
+      const row = symbol ? editRows.find((r) => r.symbol === symbol) : undefined;
+      if (row) merged.set(row.key, [...(merged.get(row.key) ?? []), issue.message.replace(/^row \d+: /, '')]);
+    }
+    return merged;
+  }, [whatIfProblems, whatIf.error, debouncedWeights, editRows]);
   const risk = inWhatIf ? (whatIf.data ?? saved.data) : saved.data;
   const error = inWhatIf ? whatIf.error : saved.error;
   const updating = (inWhatIf ? whatIf.isFetching : saved.isFetching) || whatIfWeights !== debouncedWeights || params !== debouncedParams;
@@ -396,7 +408,7 @@ export default function PortfolioRiskPage() {
                 Add row
               </Button>
             </div>
-            <HoldingsGrid rows={editRows} onChange={setEditRows} valueLabel="Weight (%)" valueDigits={4} problems={whatIfProblems} height={320} ariaLabel="What-if weights" />
+            <HoldingsGrid rows={editRows} onChange={setEditRows} valueLabel="Weight (%)" valueDigits={4} problems={gridProblems} height={320} ariaLabel="What-if weights" />
           </div>
         ) : (
           <p className="text-sm text-ink-soft">Change weights here to see every figure on this page recomputed for the edited portfolio, without saving.</p>
