@@ -11,7 +11,7 @@ const ROLE_INTRO: Record<Role, string> = {
   admin: 'You manage who can sign in and what they may do: invite colleagues, set their roles, deactivate accounts, and follow mail and the audit trail.',
   analyst: 'You bring return series into Loadline, fit factor models on them, compare them with the sample covariance and shrinkage estimates, and approve models for the firm’s use.',
   pm: 'You keep your portfolios’ holdings up to date and see what the approved models say about their risk: volatility, the factor and specific split, contributors, tracking error and VaR.',
-  compliance: 'You follow the audit log of who changed what, when and from where, and read the models, the portfolios and what the approved models say about their risk. Everything is read-only for you.',
+  compliance: 'You follow the audit log of who changed what, when and from where, and read the models, the portfolios and what the approved models say about their risk. Data, models and portfolios are read-only for you.',
 };
 
 export default function HomePage() {
