@@ -1,6 +1,7 @@
 /**
  * Demo step: invented funds of Quillfield Asset Management built from the demo assets (seeded before this step by
- * the import demo). Deterministic (seeded weights), a few hundred rows, well under a second.
+ * the import demo). Deterministic (seeded weights), a few hundred rows, well under a second. Base currency EUR: the
+ * demo assets are European (EUR, GBP, CHF, SEK), so the risk page's exchange-rate note names the non-euro share.
  */
 import type { Knex } from 'knex';
 import { createRandom } from '../engine/random';
@@ -43,7 +44,7 @@ export async function seedDemoPortfolios(knex: Knex, log: (message: string) => v
     benchmarkId: number | null,
   ): Promise<number> => {
     const [row] = await knex('portfolios')
-      .insert({ name, owner_id: ownerId, kind, description, base_currency: 'USD', input_mode: mode, benchmark_portfolio_id: benchmarkId })
+      .insert({ name, owner_id: ownerId, kind, description, base_currency: 'EUR', input_mode: mode, benchmark_portfolio_id: benchmarkId })
       .returning('id');
     const total = holdings.reduce((s, h) => s + h.value, 0);
     await knex('portfolio_holdings').insert(
@@ -62,7 +63,7 @@ export async function seedDemoPortfolios(knex: Knex, log: (message: string) => v
     'weights',
     null,
   );
-  // Core equity: 40 names, a mild tilt, market values in USD.
+  // Core equity: 40 names, a mild tilt, market values in EUR.
   const pick = (count: number, offset: number, stride: number) => {
     const chosen: AssetRow[] = [];
     for (let k = 0; chosen.length < Math.min(count, assets.length); k++) {

@@ -157,7 +157,9 @@ export default function PortfolioRiskPage() {
           </Link>
         }
       />
-      <Caution extra={risk ? `Estimation window: ${risk.model.windowStart} to ${risk.model.windowEnd} (${risk.model.label}).` : undefined} />
+      <Caution
+        extra={risk ? `Estimation window: ${risk.model.windowStart} to ${risk.model.windowEnd} (${risk.model.label}).${risk.currencyNote ? ` ${risk.currencyNote}` : ''}` : undefined}
+      />
 
       <Card title="Model and settings">
         <div className="flex flex-wrap items-end gap-3">
