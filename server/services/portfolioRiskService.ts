@@ -317,6 +317,29 @@ function pickRuns(rows: RunRowWithStatus[], chosen: number | undefined): Resolve
 
 const PERIOD_NAMES: Record<number, string> = { 252: 'trading days', 52: 'weeks', 12: 'months' };
 
+/**
+ * With no model chosen the latest approved model is used; when its universe holds none of the portfolio's assets
+ * (say, a newer model fitted on another market), the newest approved model whose universe holds any of them is used
+ * instead, and the answer says so. Costs a query only in that case.
+ */
+async function coveringDefault(runs: ResolvedRuns, chosen: number | undefined, assetIds: readonly (number | null)[]): Promise<{ runs: ResolvedRuns; note: string | null }> {
+  const ids = assetIds.filter((id): id is number => id !== null);
+  if (chosen !== undefined || !ids.length) return { runs, note: null };
+  const latest = await modelContext(runs.primary.id);
+  if (ids.some((id) => latest.byAssetId.has(id))) return { runs, note: null };
+  const covering = (await knex()('model_runs as r')
+    .join('model_results as m', 'm.run_id', 'r.id')
+    .where({ 'r.lifecycle': 'approved', 'r.status': 'succeeded' })
+    .whereRaw('m.asset_ids && ?::int[]', [ids])
+    .orderByRaw('r.approved_at DESC NULLS LAST, r.id DESC')
+    .first('r.id', 'r.label', 'r.estimator', 'r.lifecycle', 'r.approved_at')) as RunRow | undefined;
+  if (!covering) return { runs, note: null }; // computeRisk then says that the model covers none of the holdings
+  return {
+    runs: { primary: covering, latestByEstimator: runs.latestByEstimator },
+    note: `The latest approved model, ${runs.primary.label}, covers none of this portfolio's holdings: ${covering.label} is the newest approved model that does.`,
+  };
+}
+
 async function computeRisk(
   portfolio: { id: number; name: string; baseCurrency: string },
   holdings: HeldWeights[],
@@ -324,6 +347,7 @@ async function computeRisk(
   request: RiskRequest,
   whatIf: boolean,
   resolvedRuns: ResolvedRuns,
+  modelNote: string | null = null,
 ): Promise<PortfolioRisk> {
   const started = performance.now();
   const { primary, latestByEstimator } = resolvedRuns;
@@ -537,6 +561,7 @@ async function computeRisk(
     concentrationRatio: q,
     sampleNote,
     currencyNote,
+    modelNote,
     split:
       risk.factorVariance !== null && risk.specificVariance !== null
         ? {
@@ -602,7 +627,7 @@ async function benchmarkFrom(row: Pick<PortfolioRow, 'id' | 'name' | 'version'> 
 /** Risk of a saved portfolio. */
 export async function portfolioRiskReport(user: Actor, portfolioId: number, request: RiskRequest): Promise<PortfolioRisk> {
   const inputs = await savedRiskInputs(user, portfolioId, request);
-  return computeRisk(inputs.portfolio, inputs.holdings, inputs.benchmark, request, false, inputs.runs);
+  return computeRisk(inputs.portfolio, inputs.holdings, inputs.benchmark, request, false, inputs.runs, inputs.modelNote);
 }
 
 interface SavedPortfolioRow {
@@ -636,10 +661,10 @@ async function savedRiskInputs(user: Actor, portfolioId: number, request: RiskRe
   // A portfolio the caller may not read answers 404 before anything is said about models.
   const row = rows.portfolio;
   if (!row) throw notFound(`Portfolio ${portfolioId} does not exist or is not yours to see`);
-  const runs = pickRuns(rows.runs, request.model);
   const [holdings, benchmark] = await Promise.all([cachedHoldings(row.id, row.version), benchmarkFrom(rows.benchmark)]);
   if (!holdings.length) throw unprocessable(`Portfolio '${row.name}' has no holdings yet`, [{ path: 'holdings', message: 'add holdings before asking for risk' }]);
-  return { portfolio: { id: row.id, name: row.name, baseCurrency: row.base_currency.trim() }, version: row.version, holdings, benchmark, runs };
+  const resolved = await coveringDefault(pickRuns(rows.runs, request.model), request.model, holdings.map((h) => h.assetId));
+  return { portfolio: { id: row.id, name: row.name, baseCurrency: row.base_currency.trim() }, version: row.version, holdings, benchmark, runs: resolved.runs, modelNote: resolved.note };
 }
 
 /**
@@ -674,8 +699,10 @@ export async function portfolioRiskJson(user: Actor, portfolioId: number, reques
     answerCache.set(key, hit);
     return { json: hit, cached: true };
   }
-  const answer = await computeRisk(inputs.portfolio, inputs.holdings, inputs.benchmark, request, false, inputs.runs);
+  const answer = await computeRisk(inputs.portfolio, inputs.holdings, inputs.benchmark, request, false, inputs.runs, inputs.modelNote);
   const json = JSON.stringify(answer);
+  // A substitute default model is found by a query the key does not cover (say, that model retired since): not kept.
+  if (inputs.modelNote) return { json, cached: false };
   answerCache.set(key, json);
   while (answerCache.size > MAX_CACHED_ANSWERS) answerCache.delete(answerCache.keys().next().value!);
   return { json, cached: false };
@@ -714,7 +741,8 @@ export async function whatIfRisk(user: Actor, portfolioId: number, weights: { sy
   // Asset names for the contributors grid come from the saved holdings where known.
   const names = new Map((await cachedHoldings(row.id, row.version)).map((h) => [h.symbol.toUpperCase(), h.name]));
   for (const h of held) if (h.name === null) h.name = names.get(h.symbol) ?? null;
-  return computeRisk({ id: row.id, name: row.name, baseCurrency: row.base_currency.trim() }, held, benchmark, { ...request, model: primary.id }, true, runs);
+  const resolved = await coveringDefault(runs, request.model, held.map((h) => h.assetId));
+  return computeRisk({ id: row.id, name: row.name, baseCurrency: row.base_currency.trim() }, held, benchmark, { ...request, model: resolved.runs.primary.id }, true, resolved.runs, resolved.note);
 }
 
 export type { FactorModel };

@@ -202,6 +202,8 @@ export const PortfolioRiskSchema = z
     sampleNote: z.string().nullable(),
     /** Set when holdings are in other currencies than the portfolio's base currency (exchange-rate risk left out). */
     currencyNote: z.string().nullable(),
+    /** Set when no model was chosen and the latest approved one covers none of the holdings: which model stands in. */
+    modelNote: z.string().nullable(),
     split: z
       .object({ factorVariance: z.number(), specificVariance: z.number(), factorShare: z.number(), specificShare: z.number() })
       .nullable(),

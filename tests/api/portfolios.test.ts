@@ -363,3 +363,38 @@ describe('risk', () => {
     expect(foreign.status).toBe(404);
   });
 });
+
+describe('the default model when the latest approved one covers none of the holdings', () => {
+  it('stands in the newest approved model that covers them, and says so; a chosen model is never replaced', async () => {
+    const covering = await storeFittedRun(ctx.knex, { symbols: symbols.slice(0, 10), from: dates[0], to: dates[T - 1], estimator: 'fa', factors: 2 });
+    const elsewhere = await storeFittedRun(ctx.knex, { symbols: symbols.slice(20), from: dates[0], to: dates[T - 1], estimator: 'ppca', factors: 2 });
+    const approver = await ctx.knex('users').where({ email: 'analyst2@quillfield.example' }).first('id');
+    const approve = (id: number, at: string) =>
+      ctx.knex('model_runs').where({ id }).update({ lifecycle: 'approved', approved_by: approver.id, approved_at: ctx.knex.raw(at), approval_comment: 'test approval' });
+    await approve(covering.id, "now() - interval '1 minute'");
+    await approve(elsewhere.id, 'now()'); // the newer approval covers other assets only
+    try {
+      const fund = await createPortfolio('pm', { name: `Default model ${prefix}` });
+      const holdings = symbols.slice(0, 5).map((symbol) => ({ symbol, weight: 0.2 }));
+      await request(ctx.app).put(`/api/portfolios/${fund.id}/holdings`).set(auth('pm')).send({ mode: 'weights', holdings }).expect(200);
+
+      const res = await request(ctx.app).get(`/api/portfolios/${fund.id}/risk`).set(auth('pm'));
+      expect(res.status, JSON.stringify(res.body)).toBe(200);
+      expect(res.body.model.runId).toBe(covering.id);
+      expect(res.body.modelNote).toMatch(new RegExp(`covers none of this portfolio's holdings: ${covering.label} is the newest approved model that does\\.$`));
+      const whatIf = await request(ctx.app).post(`/api/portfolios/${fund.id}/risk/what-if`).set(auth('pm')).send({ holdings });
+      expect(whatIf.status, JSON.stringify(whatIf.body)).toBe(200);
+      expect(whatIf.body.model.runId).toBe(covering.id);
+      expect(whatIf.body.modelNote).toBe(res.body.modelNote);
+
+      const chosen = await request(ctx.app).get(`/api/portfolios/${fund.id}/risk`).query({ model: elsewhere.id }).set(auth('pm'));
+      expect(chosen.status).toBe(422);
+      expect(chosen.body.error).toMatch(/universe/);
+      const chosenOk = await request(ctx.app).get(`/api/portfolios/${fund.id}/risk`).query({ model: covering.id }).set(auth('pm'));
+      expect(chosenOk.body.modelNote).toBeNull();
+    } finally {
+      // Retired again, so other tests' default model is not these.
+      await ctx.knex('model_runs').whereIn('id', [covering.id, elsewhere.id]).update({ lifecycle: 'retired', retired_at: ctx.knex.fn.now() });
+    }
+  });
+});

@@ -160,6 +160,7 @@ export default function PortfolioRiskPage() {
       <Caution
         extra={risk ? `Estimation window: ${risk.model.windowStart} to ${risk.model.windowEnd} (${risk.model.label}).${risk.currencyNote ? ` ${risk.currencyNote}` : ''}` : undefined}
       />
+      {risk?.modelNote ? <Alert title="Model used">{risk.modelNote}</Alert> : null}
 
       <Card title="Model and settings">
         <div className="flex flex-wrap items-end gap-3">
