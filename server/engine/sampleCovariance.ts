@@ -35,12 +35,14 @@ export interface SampleCovarianceOptions {
   mean?: MeanHandling;
   /** 'unbiased' (default: 1/(T−1) with a sample mean) or 'ml' (1/T, as scikit-learn's estimators use). */
   divisor?: 'unbiased' | 'ml';
+  /** Repair a pairwise estimate that is not PSD (default true). False: answer it as estimated (e.g. for its spectrum). */
+  repair?: boolean;
 }
 
 export function sampleCovariance(panel: ReturnsPanel, options: SampleCovarianceOptions = {}): SampleCovarianceResult {
   const meanHandling = options.mean ?? 'sample';
   const unbiased = (options.divisor ?? 'unbiased') === 'unbiased' && meanHandling === 'sample';
-  if (panelHasMissing(panel)) return pairwiseCovariance(panel, options.weighting, meanHandling, unbiased);
+  if (panelHasMissing(panel)) return pairwiseCovariance(panel, options.weighting, meanHandling, unbiased, options.repair ?? true);
   const { observations: t, assets: n } = panel;
   if (t < 2 && unbiased) throw new Error('the sample covariance needs at least 2 observations');
   const scatter = buildScatter(panel, { weighting: options.weighting, mean: meanHandling, form: 'data' });
@@ -63,7 +65,7 @@ export function sampleCovariance(panel: ReturnsPanel, options: SampleCovarianceO
   };
 }
 
-function pairwiseCovariance(panel: ReturnsPanel, weighting: Weighting | undefined, meanHandling: MeanHandling, unbiased: boolean): SampleCovarianceResult {
+function pairwiseCovariance(panel: ReturnsPanel, weighting: Weighting | undefined, meanHandling: MeanHandling, unbiased: boolean, repair: boolean): SampleCovarianceResult {
   const { values, observations: t, assets: n } = panel;
   const weights = observationWeights(t, weighting);
   // Column-major (asset rows) copies: observed indicator O, w·O, w·X0, w²·O and X0 (NaN → 0).
@@ -127,7 +129,7 @@ function pairwiseCovariance(panel: ReturnsPanel, weighting: Weighting | undefine
   let repaired = false;
   let repairChange = 0;
   let covariance: Float64Array = cov;
-  if (!tryCholesky(cov, n)) {
+  if (repair && !tryCholesky(cov, n)) {
     const fix = nearestPsdCovariance(cov, n);
     covariance = fix.matrix;
     repaired = true;

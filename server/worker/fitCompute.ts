@@ -6,8 +6,9 @@
 import type { CovarianceModel, FitProgress, ReturnsPanel, Weighting } from '../engine/types';
 import { completeRows, fitModel, type MissingPolicy } from '../engine/fit';
 import { chooseFactorCount, marchenkoPasturEdge } from '../engine/factorCount';
-import { buildScatter, panelHasMissing } from '../engine/scatter';
-import { topSpectrum } from '../engine/ppca';
+import { panelHasMissing } from '../engine/scatter';
+import { sampleCovariance } from '../engine/sampleCovariance';
+import { denseOperator, topEigenpairs } from '../engine/linalg/eigen';
 import { factorScores } from '../engine/scores';
 import { communalities } from '../engine/rotation';
 import type { ModelDiagnostics, ModelRunParameters } from '../../shared/schemas/modelRuns';
@@ -129,15 +130,18 @@ export function computeModelRun(panel: ReturnsPanel, parameters: ModelRunParamet
   let spectrumTrace: number | null = null;
   let spectrumObservations = d.effectiveSampleSize;
   if (!eigenvalues.length && hasMissing) {
-    // EM fits have no sample spectrum: read it from the dates on which every asset is observed, and say so.
-    const complete = completeRows(panel);
-    if (complete.observations >= 2) {
-      const scatter = buildScatter(complete, { weighting: undefined, mean: parameters.mean });
-      eigenvalues = Array.from(topSpectrum(scatter, Math.min(n, SPECTRUM_SIZE)).values);
-      spectrumTrace = scatter.trace;
-      spectrumObservations = complete.observations;
-      spectrumSource = `Spectrum of the ${complete.observations} dates on which every asset is observed (the fit itself used every observed value).`;
-    }
+    // EM fits have no sample spectrum of their own: read it from the pairwise-complete sample covariance over every
+    // date (each pair of assets on the dates both are observed; not repaired to PSD, only its top eigenvalues are
+    // read), so the scree plot and the Marchenko–Pastur edge see the whole window, and say so.
+    const pairwise = sampleCovariance(panel, { weighting, mean: parameters.mean, divisor: 'ml', repair: false });
+    const k = Math.min(n, SPECTRUM_SIZE);
+    const top = topEigenpairs(denseOperator(pairwise.covariance, n), k, { tolerance: 1e-10 });
+    eigenvalues = Array.from(top.values.subarray(0, k), (v) => Math.max(v, 0));
+    let trace = 0;
+    for (let i = 0; i < n; i++) trace += pairwise.covariance[i * n + i];
+    spectrumTrace = trace;
+    spectrumObservations = pairwise.effectiveSampleSize;
+    spectrumSource = `Spectrum of the pairwise-complete sample covariance over all ${panel.observations} dates (each pair of assets on the dates both are observed); the fit itself used every observed value by EM.`;
   }
   let edge = recommendation.edge ?? null;
   let bulk = recommendation.bulk ?? null;

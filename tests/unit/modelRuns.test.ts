@@ -3,6 +3,8 @@ import { createHash } from 'node:crypto';
 import { decodeDoubles, encodeDoubles, panelSha256 } from '../../server/services/modelStore';
 import { computeModelRun } from '../../server/worker/fitCompute';
 import { marchenkoPasturEdge as marchenkoPastur } from '../../server/engine/factorCount';
+import { sampleCovariance } from '../../server/engine/sampleCovariance';
+import { symmetricEigen } from '../../server/engine/linalg/eigen';
 import { plantedPanel } from '../../server/engine/planted';
 import { ModelRunParametersSchema } from '../../shared/schemas/modelRuns';
 
@@ -36,7 +38,7 @@ describe('the run computation', () => {
     expect(edge).toBeCloseTo((1 + Math.sqrt(100 / 400)) ** 2, 14);
   });
 
-  it('fits with missing values by EM and reads the spectrum from the complete dates, saying so', () => {
+  it('fits with missing values by EM and reads the spectrum from the pairwise-complete covariance over every date, saying so', () => {
     const planted = plantedPanel({ assets: 20, observations: 200, factors: 2, seed: 5, missingShare: 0.02 });
     const parameters = ModelRunParametersSchema.parse({ universe: { kind: 'all' }, window: { kind: 'last', observations: 200 }, estimator: 'fa', factors: 2 });
     const fit = computeModelRun(planted.panel, parameters);
@@ -44,7 +46,12 @@ describe('the run computation', () => {
     expect(fit.diagnostics.missingMethod).toBe('EM over the observed entries');
     expect(fit.diagnostics.missingEntries).toBe(planted.hiddenEntries);
     expect(fit.diagnostics.eigenvalues!.length).toBe(20);
-    expect(String(fit.diagnostics.spectrumSource)).toMatch(/dates on which every asset is observed/);
+    expect(String(fit.diagnostics.spectrumSource)).toMatch(/pairwise-complete sample covariance over all 200 dates/);
+    // The same eigenvalues as a full decomposition of that (unrepaired) pairwise matrix.
+    const pairwise = sampleCovariance(planted.panel, { mean: 'sample', divisor: 'ml', repair: false });
+    expect(pairwise.repairedToPsd).toBe(false);
+    const full = symmetricEigen(pairwise.covariance, 20).values;
+    fit.diagnostics.eigenvalues!.forEach((v, k) => expect(Math.abs(v - Math.max(full[k], 0))).toBeLessThan(1e-9 * full[0]));
     expect(fit.factorScores).toHaveLength(200 * 2);
     expect(fit.diagnostics.explainedShare).toBeGreaterThan(0);
     expect(fit.diagnostics.explainedShare).toBeLessThan(1);

@@ -49,7 +49,10 @@ export function ScreePlot({ eigenvalues, edge, factors, height = 240 }: { eigenv
       </div>
       <figcaption className="text-xs text-ink-soft">
         Top eigenvalues of the sample covariance; teal bars are the {factors} fitted factor{factors === 1 ? '' : 's'}.
-        {above !== null ? ` ${above} eigenvalue${above === 1 ? '' : 's'} lie above the edge σ²(1 + √(N/T))², beyond what noise alone would give.` : ''}
+        {above !== null
+          ? ` ${above} eigenvalue${above === 1 ? '' : 's'} lie above the edge σ²(1 + √(N/T))², beyond what noise of one common variance σ² would give.` +
+            (above > factors ? ' The edge assumes every asset has the same specific variance; uneven specific variances push noise eigenvalues above it, so more eigenvalues than factors can clear it (Marchenko & Pastur 1967).' : '')
+          : ''}
       </figcaption>
     </figure>
   );
