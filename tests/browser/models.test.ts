@@ -115,6 +115,17 @@ describe('model runs in the browser', () => {
     await page.getByRole('heading', { name: `Model ${label}` }).waitFor();
     await page.getByText('You ran this fit: a second analyst or an administrator approves it.').waitFor();
     await page.getByRole('region', { name: 'Model assets' }).waitFor();
+    // The loadings heatmap: standardised (correlations, fixed −1…1 scale) by default, raw on request.
+    const heatmap = page.getByRole('img', { name: `Loadings of ${N} assets on 3 factors` });
+    await heatmap.waitFor();
+    expect(await page.getByRole('button', { name: 'Correlation with factor' }).getAttribute('aria-pressed')).toBe('true');
+    expect(await heatmap.locator('rect').count()).toBe(N * 3);
+    const firstCell = (await heatmap.locator('rect title').first().textContent()) ?? '';
+    expect(Math.abs(Number(firstCell.split(': ').pop()))).toBeLessThanOrEqual(1);
+    await page.getByRole('button', { name: 'Raw loadings' }).click();
+    expect(await page.getByRole('button', { name: 'Raw loadings' }).getAttribute('aria-pressed')).toBe('true');
+    // Raw loadings are in return units, written in exponent form.
+    await expect.poll(async () => /: -?\d\.\d{3}e[-+]\d+$/.test((await heatmap.locator('rect title').first().textContent()) ?? '')).toBe(true);
     const modelUrl = page.url();
 
     // The second analyst signs in and approves it with a comment.

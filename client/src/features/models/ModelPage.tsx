@@ -299,7 +299,7 @@ export default function ModelPage() {
                   <Alert tone="info" title={orientation === 'canonical' ? 'Canonical orientation' : 'Varimax rotation: an interpretation aid'}>
                     {loadings.data.note}
                   </Alert>
-                  <LoadingsHeatmap symbols={loadings.data.symbols} loadings={loadings.data.loadings} factors={loadings.data.factors} />
+                  <LoadingsHeatmap symbols={loadings.data.symbols} loadings={loadings.data.loadings} factors={loadings.data.factors} assets={rows} />
                 </div>
               ) : loadings.isError ? (
                 <ErrorAlert error={loadings.error} />
