@@ -3,6 +3,7 @@ import { loadConfig } from './config';
 import { createKnex, bindModels } from './db/knex';
 import { createApp } from './app';
 import { ensureAdminFromEnv } from './services/bootstrapAdmin';
+import { warmApprovedModels } from './services/portfolioRiskService';
 
 const config = loadConfig();
 const knex = createKnex(config.databaseUrl);
@@ -11,6 +12,8 @@ await ensureAdminFromEnv();
 const app = createApp(config);
 const server = app.listen(config.port, config.host, () => {
   console.log(`[api] listening on http://${config.host}:${config.port}`);
+  // In the background: a risk page asked meanwhile shares the same loading.
+  warmApprovedModels().catch((error: Error) => console.warn(`[api] approved models not preloaded: ${error.message}`));
 });
 
 async function shutdown() {

@@ -9,6 +9,7 @@ import { User } from '../models/User';
 import { conflict, forbidden, notFound, unprocessable } from '../http/errors';
 import { recordAudit } from './auditService';
 import { loadModel, type StoredModel } from './modelStore';
+import { warmModel } from './portfolioRiskService';
 import { observationCounts, resolveUniverse, windowDates } from './modelPanel';
 import { MODEL_FIT_CHANNEL, ensureModelFitQueue, modelFitQueue, queueSender } from './modelQueue';
 import type { AuthenticatedUser } from '../auth/access';
@@ -209,6 +210,8 @@ export async function approveRun(id: number, comment: string, user: Authenticate
     await ModelRun.query(trx).patch({ lifecycle: 'approved', approved_by: user.id, approved_at: new Date(), approval_comment: comment }).where({ id });
     await recordAudit({ actor: user, action: 'model-run.approved', objectType: 'model_run', objectId: id, ip, details: { label: run.label, comment, createdBy: run.created_by } }, trx);
   });
+  // Risk pages will ask for it next: load it and its comparison matrices in the background (this process only).
+  void warmModel(id).catch(() => undefined);
   return getRun(id);
 }
 

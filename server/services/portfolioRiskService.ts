@@ -155,6 +155,19 @@ export async function warmModel(runId: number): Promise<void> {
   await comparisonsFor(await modelContext(runId));
 }
 
+/**
+ * Loads the latest approved model of each estimator in the background, so the first risk page after a start does
+ * not wait for them (on data with missing values at N = 1000 the comparison matrices take seconds to repair).
+ */
+export async function warmApprovedModels(log: (message: string) => void = console.log): Promise<void> {
+  const runs = (await knex().raw(RUNS_SQL, { chosen: null })).rows as { id: number; label: string }[];
+  for (const run of runs) {
+    const started = performance.now();
+    await warmModel(run.id);
+    log(`[api] risk figures of ${run.label} ready (${((performance.now() - started) / 1000).toFixed(1)} s)`);
+  }
+}
+
 // ---------------------------------------------------------------------------------------------------------------
 // Restricting a model to the held assets
 
