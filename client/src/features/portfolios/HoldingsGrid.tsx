@@ -1,12 +1,13 @@
-import { useCallback, useMemo } from 'react';
+import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import { AgGridReact } from 'ag-grid-react';
-import { ModuleRegistry, TextEditorModule, type CellValueChangedEvent, type ColDef } from 'ag-grid-community';
+import { ModuleRegistry, ScrollApiModule, TextEditorModule, type CellValueChangedEvent, type ColDef, type GridApi } from 'ag-grid-community';
 import { COLUMN_TYPES, loadlineGridTheme } from '../../components/DataGrid';
 import { formatNumber } from '../../components/Figure';
 
-// Editing needs the text editor on top of the modules the shared grid registers. Values are typed as text too, so an
-// entry that is not a number stays visible (and marked) instead of being blanked by a number input.
-ModuleRegistry.registerModules([TextEditorModule]);
+// Editing needs the text editor, and scrolling an added row into view the scroll API, on top of the modules the shared
+// grid registers. Values are typed as text too, so an entry that is not a number stays visible (and marked) instead of
+// being blanked by a number input.
+ModuleRegistry.registerModules([TextEditorModule, ScrollApiModule]);
 
 /** `valueText`: what was typed when it is not a number (then `value` is null), kept so the row can show and name it. */
 export type EditableHolding = { key: number; symbol: string; value: number | null; assetName: string | null; valueText?: string };
@@ -40,6 +41,7 @@ export function HoldingsGrid({
   symbolsEditable = true,
   height = 420,
   ariaLabel,
+  focusRowKey,
 }: {
   rows: EditableHolding[];
   onChange: (rows: EditableHolding[]) => void;
@@ -50,7 +52,25 @@ export function HoldingsGrid({
   symbolsEditable?: boolean;
   height?: number;
   ariaLabel: string;
+  /** A row to scroll into view with its symbol cell focused (e.g. one just added); each new key does it once. */
+  focusRowKey?: number;
 }) {
+  const [gridApi, setGridApi] = useState<GridApi<EditableHolding> | null>(null);
+  const pendingFocus = useRef<number | undefined>(undefined);
+  useEffect(() => {
+    pendingFocus.current = focusRowKey;
+  }, [focusRowKey]);
+  // The grid takes new rowData after React renders, so try on each data update until the row exists.
+  const focusPendingRow = useCallback(() => {
+    const key = pendingFocus.current;
+    if (!gridApi || key === undefined) return;
+    const node = gridApi.getRowNode(String(key));
+    if (!node || node.rowIndex === null) return;
+    pendingFocus.current = undefined;
+    gridApi.ensureIndexVisible(node.rowIndex);
+    gridApi.setFocusedCell(node.rowIndex, 'symbol');
+  }, [gridApi]);
+  useEffect(() => focusPendingRow(), [focusPendingRow, focusRowKey, rows]);
   const remove = useCallback((key: number) => onChange(rows.filter((r) => r.key !== key)), [rows, onChange]);
   const columns = useMemo<ColDef<EditableHolding>[]>(
     () => [
@@ -144,6 +164,8 @@ export function HoldingsGrid({
         columnTypes={COLUMN_TYPES}
         getRowId={(p) => String(p.data.key)}
         onCellValueChanged={changed}
+        onGridReady={(e) => setGridApi(e.api)}
+        onRowDataUpdated={focusPendingRow}
         getRowClass={(p) => (p.data && problems?.get(p.data.key)?.length ? 'll-row-problem' : undefined)}
         singleClickEdit
         stopEditingWhenCellsLoseFocus

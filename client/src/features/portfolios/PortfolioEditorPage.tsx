@@ -1,5 +1,5 @@
-import { useEffect, useMemo, useState } from 'react';
-import { Link, useNavigate, useParams } from 'react-router-dom';
+import { useEffect, useMemo, useRef, useState } from 'react';
+import { Link, useBlocker, useNavigate, useParams, type Blocker } from 'react-router-dom';
 import { useForm } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { z } from 'zod';
@@ -48,6 +48,54 @@ function serverProblems(error: unknown, rows: EditableHolding[]): { byRow: Map<n
   return { byRow, general };
 }
 
+/** Why "Save holdings" is disabled, said beside it; null when it is enabled. */
+function saveBlockedReason({ pending, dirty, problemRows }: { pending: boolean; dirty: boolean; problemRows: number }): string | null {
+  if (pending) return null;
+  if (problemRows > 0) return `${problemRows} ${problemRows === 1 ? 'row has problems' : 'rows have problems'}: fix the marked rows to save.`;
+  if (!dirty) return 'Nothing changed since the last save.';
+  return null;
+}
+
+/** Asks before an in-app navigation would drop unsaved holdings (the browser asks on its own for a closing tab). */
+function LeaveDialog({ blocker }: { blocker: Blocker }) {
+  const ref = useRef<HTMLDialogElement>(null);
+  const open = blocker.state === 'blocked';
+  useEffect(() => {
+    const dialog = ref.current;
+    if (!dialog) return;
+    if (open && !dialog.open) dialog.showModal();
+    if (!open && dialog.open) dialog.close();
+  }, [open]);
+  return (
+    <dialog
+      ref={ref}
+      aria-labelledby="leave-title"
+      aria-describedby="leave-body"
+      className="m-auto max-w-md rounded-lg border border-line bg-surface p-5 text-ink shadow-lg backdrop:bg-ink/30"
+      // Escape closes a modal dialog: treat it as staying.
+      onCancel={(e) => {
+        e.preventDefault();
+        if (blocker.state === 'blocked') blocker.reset();
+      }}
+    >
+      <h2 id="leave-title" className="text-base font-semibold">
+        Leave with unsaved holdings?
+      </h2>
+      <p id="leave-body" className="mt-2 text-sm text-ink-soft">
+        The holdings have changes that are not saved. Leaving this page drops them.
+      </p>
+      <div className="mt-4 flex justify-end gap-2">
+        <Button autoFocus onClick={() => blocker.state === 'blocked' && blocker.reset()}>
+          Stay and keep editing
+        </Button>
+        <Button variant="danger" onClick={() => blocker.state === 'blocked' && blocker.proceed()}>
+          Leave without saving
+        </Button>
+      </div>
+    </dialog>
+  );
+}
+
 export default function PortfolioEditorPage() {
   const id = Number(useParams().id);
   const navigate = useNavigate();
@@ -63,6 +111,20 @@ export default function PortfolioEditorPage() {
   const [file, setFile] = useState<File | null>(null);
   const [csvUnit, setCsvUnit] = useState<'fraction' | 'percent'>('fraction');
   const [saved, setSaved] = useState<string | null>(null);
+  const [addedRowKey, setAddedRowKey] = useState<number | undefined>(undefined);
+  // Set once the portfolio is deleted, so the move to the list is not asked about.
+  const deleted = useRef(false);
+  const blocker = useBlocker(({ currentLocation, nextLocation }) => dirty && !deleted.current && (currentLocation.pathname !== nextLocation.pathname || currentLocation.search !== nextLocation.search));
+  useEffect(() => {
+    if (!dirty) return;
+    // Closing or reloading the tab: the browser shows its own question (the text is not customisable).
+    const ask = (event: BeforeUnloadEvent) => {
+      event.preventDefault();
+      event.returnValue = '';
+    };
+    window.addEventListener('beforeunload', ask);
+    return () => window.removeEventListener('beforeunload', ask);
+  }, [dirty]);
   const form = useForm<Details>({ resolver: zodResolver(DetailsSchema), defaultValues: { name: '', description: '', baseCurrency: 'USD', benchmark: '' } });
 
   const data = portfolio.data;
@@ -85,6 +147,7 @@ export default function PortfolioEditorPage() {
     return merged;
   }, [local, server]);
   const total = rows.reduce((s, r) => s + (r.value ?? 0), 0);
+  const saveReason = saveBlockedReason({ pending: replace.isPending, dirty, problemRows: local.size });
   const sumProblem = mode === 'weights' && rows.length > 0 && Math.abs(total - 100) > WEIGHT_SUM_TOLERANCE * 100 ? `The weights sum to ${total.toFixed(4)} %, not 100 %.` : null;
 
   const edit = (next: EditableHolding[]) => {
@@ -164,7 +227,14 @@ export default function PortfolioEditorPage() {
                   <input type="radio" name="mode" checked={mode === 'market-values'} onChange={() => switchMode('market-values')} /> Market values ({data.baseCurrency})
                 </label>
               </fieldset>
-              <Button size="sm" onClick={() => edit([...rows, { key: newHoldingKey(), symbol: '', assetName: null, value: null }])}>
+              <Button
+                size="sm"
+                onClick={() => {
+                  const key = newHoldingKey();
+                  edit([...rows, { key, symbol: '', assetName: null, value: null }]);
+                  setAddedRowKey(key);
+                }}
+              >
                 Add row
               </Button>
               <span className="text-sm text-ink-soft">
@@ -181,6 +251,7 @@ export default function PortfolioEditorPage() {
             problems={problems}
             readOnly={!canEdit}
             ariaLabel="Holdings"
+            focusRowKey={addedRowKey}
           />
           {sumProblem ? <Alert tone="warn">{sumProblem} Saving is refused unless they sum to 100 % (within 0.01 %), or switch to market values.</Alert> : null}
           {replace.error ? (
@@ -194,12 +265,17 @@ export default function PortfolioEditorPage() {
           {saved ? <Alert tone="ok">{saved}</Alert> : null}
           {canEdit ? (
             <div className="flex items-center gap-2">
-              <Button variant="primary" onClick={saveHoldings} disabled={replace.isPending || !dirty || local.size > 0}>
+              <Button variant="primary" onClick={saveHoldings} disabled={replace.isPending || saveReason !== null} aria-describedby={saveReason ? 'save-holdings-reason' : undefined}>
                 {replace.isPending ? 'Saving…' : 'Save holdings'}
               </Button>
               <Button onClick={() => (setRows(rowsFrom(data, mode)), setDirty(false), replace.reset())} disabled={!dirty}>
                 Discard changes
               </Button>
+              {saveReason ? (
+                <span id="save-holdings-reason" className="text-sm text-ink-soft" data-testid="save-holdings-reason">
+                  {saveReason}
+                </span>
+              ) : null}
             </div>
           ) : null}
         </div>
@@ -230,6 +306,8 @@ export default function PortfolioEditorPage() {
           </div>
         </Card>
       ) : null}
+
+      <LeaveDialog blocker={blocker} />
 
       <Card title="Details and benchmark">
         <form onSubmit={saveDetails} className="grid grid-cols-1 gap-3 md:grid-cols-3" noValidate>
@@ -264,7 +342,12 @@ export default function PortfolioEditorPage() {
               <Button
                 variant="danger"
                 onClick={() => {
-                  if (window.confirm(`Delete ${data.name} and its holdings? This cannot be undone.`)) remove.mutate(id, { onSuccess: () => navigate('/portfolios') });
+                  if (window.confirm(`Delete ${data.name} and its holdings? This cannot be undone.`)) remove.mutate(id, {
+                      onSuccess: () => {
+                        deleted.current = true;
+                        navigate('/portfolios');
+                      },
+                    });
                 }}
               >
                 Delete portfolio
