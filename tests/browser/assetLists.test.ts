@@ -72,7 +72,7 @@ describe('saved asset lists in the new-fit form', () => {
     const listSelect = form.getByLabel('Saved list');
     await expect.poll(() => listSelect.inputValue()).toBe(String(saved.id));
     await form.getByLabel('Estimator').selectOption('sample');
-    await form.getByLabel('Observations (N dates)').fill('30');
+    await form.getByLabel('Observations (dates)').fill('30');
     await form.getByLabel('Version label (optional)').fill(`list ${prefix}`);
     await form.getByRole('button', { name: 'Start fit' }).click();
     const queued = page.getByRole('status').filter({ hasText: 'is queued' });

@@ -74,19 +74,35 @@ describe('model runs in the browser', () => {
     await page.getByRole('button', { name: 'New fit' }).click();
     const form = page.getByRole('form', { name: 'New model fit' });
     await form.getByLabel('Assets', { exact: true }).selectOption('assets');
-    await form.getByLabel('Symbols').fill(symbols.join(', '));
+    // Typed symbols are upper-cased as the server stores them. Ten symbols first: the factors' limit follows the universe.
+    const symbolsField = form.getByLabel('Symbols');
+    await symbolsField.fill(symbols.slice(0, 10).join(', ').toLowerCase());
+    await expect(symbolsField.inputValue()).resolves.toBe(symbols.slice(0, 10).join(', '));
     await form.getByLabel('Version label (optional)').fill(`browser ${prefix}`);
-    await form.getByLabel('Observations (N dates)').fill(String(T));
+    const observations = form.getByLabel('Observations (dates)');
+    await observations.fill(String(T));
+    await expect(form.getByText('Each asset needs at least 30 observed dates in the window.').count()).resolves.toBe(1);
     await form.getByLabel('Weighting').selectOption('exponential');
     await form.getByLabel('Half-life (periods)').fill('250');
     // λ = 0.5^(1/250) shown beside the half-life.
     await expect.poll(() => form.getByText(/λ = 0\.5\^\(1\/h\) = 0\.997231/).count()).toBe(1);
     await form.getByLabel('Estimator').selectOption('fa');
-    await form.getByLabel('Factors (L)').fill(String(N + 1));
+    const factors = form.getByLabel('Factors (L)');
+    // The field's maximum, its hint and its message agree: below the number of assets (10) ...
+    await form.getByText('1 to 9: below the number of assets (10).').waitFor();
+    await expect(factors.getAttribute('max')).resolves.toBe('9');
+    await factors.fill('12');
     await form.getByRole('button', { name: 'Start fit' }).click();
     // Client-side validation explains itself before anything is sent.
-    await form.getByText(`factors must be below the number of assets (${N})`).waitFor();
-    await form.getByLabel('Factors (L)').fill('3');
+    await form.getByText('at most 9 factors: factors must be below the number of assets (10)').waitFor();
+    // ... and at most 30 (the server's bound) for the full 60.
+    await symbolsField.fill(symbols.join(', ').toLowerCase());
+    await form.getByText('1 to 30.').waitFor();
+    await expect(factors.getAttribute('max')).resolves.toBe('30');
+    await factors.fill(String(N + 1));
+    await form.getByRole('button', { name: 'Start fit' }).click();
+    await form.getByText('at most 30 factors').waitFor();
+    await factors.fill('3');
     await form.getByRole('button', { name: 'Start fit' }).click();
     const queued = page.getByRole('status').filter({ hasText: 'is queued' });
     await queued.waitFor();

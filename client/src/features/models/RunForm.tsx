@@ -1,4 +1,4 @@
-import { useMemo, useState } from 'react';
+import { useEffect, useMemo, useState } from 'react';
 import { useForm, useWatch } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { z } from 'zod';
@@ -19,7 +19,25 @@ import { useAssetsForUniverse, useCreateRun } from './api';
 import { useAssetLists, useCreateAssetList } from '../asset-lists/api';
 import { ApiError, errorMessage } from '../../lib/api';
 
-const splitSymbols = (text: string) => [...new Set(text.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean))];
+/** Typed symbols, upper-cased as the server stores them (imports upper-case every symbol; the holdings editor does too). */
+const splitSymbols = (text: string) => [...new Set(text.split(/[\s,;]+/).map((s) => s.trim().toUpperCase()).filter(Boolean))];
+
+type UniverseChoice = { universeKind: 'all' | 'sectors' | 'assets' | 'list'; sectors?: string[]; symbols?: string; listId?: string };
+
+/** How many assets the chosen universe holds, as far as the client knows (0 when not yet known). */
+function universeSizeOf(v: UniverseChoice, assets: Asset[], lists: AssetListSummary[]): number {
+  if (v.universeKind === 'sectors') return assets.filter((a) => a.sector && (v.sectors ?? []).includes(a.sector)).length;
+  if (v.universeKind === 'assets') return splitSymbols(v.symbols ?? '').length;
+  if (v.universeKind === 'list') return lists.find((l) => String(l.id) === v.listId)?.size ?? 0;
+  return assets.length;
+}
+
+/** Largest number of factors allowed: below the number of assets (L < N) and at most MAX_FACTORS, as the server checks. */
+const maxFactorsFor = (universeSize: number) => (universeSize > 1 ? Math.min(MAX_FACTORS, universeSize - 1) : MAX_FACTORS);
+const factorsLimitMessage = (universeSize: number) =>
+  maxFactorsFor(universeSize) < MAX_FACTORS
+    ? `at most ${maxFactorsFor(universeSize)} factors: factors must be below the number of assets (${universeSize})`
+    : `at most ${MAX_FACTORS} factors`;
 
 /** The form's own flat shape; it becomes ModelRunParameters on submit. Rules that need the asset list sit in the factory. */
 function formSchema(assets: Asset[], lists: AssetListSummary[]) {
@@ -44,24 +62,16 @@ function formSchema(assets: Asset[], lists: AssetListSummary[]) {
     })
     .superRefine((v, ctx) => {
       const issue = (path: string, message: string) => ctx.addIssue({ code: 'custom', path: [path], message });
-      let universeSize = assets.length;
-      if (v.universeKind === 'sectors') {
-        if (!v.sectors.length) issue('sectors', 'choose at least one sector');
-        universeSize = assets.filter((a) => a.sector && v.sectors.includes(a.sector)).length;
-      }
+      const universeSize = universeSizeOf(v, assets, lists);
+      if (v.universeKind === 'sectors' && !v.sectors.length) issue('sectors', 'choose at least one sector');
       if (v.universeKind === 'assets') {
         const symbols = splitSymbols(v.symbols);
         const known = new Set(assets.map((a) => a.symbol));
         const unknown = symbols.filter((s) => !known.has(s));
         if (symbols.length < 2) issue('symbols', 'list at least two symbols');
         else if (unknown.length) issue('symbols', `unknown symbol${unknown.length > 1 ? 's' : ''}: ${unknown.slice(0, 5).join(', ')}`);
-        universeSize = symbols.length;
       }
-      if (v.universeKind === 'list') {
-        const list = lists.find((l) => String(l.id) === v.listId);
-        if (!list) issue('listId', 'choose a saved list');
-        universeSize = list?.size ?? 0;
-      }
+      if (v.universeKind === 'list' && !lists.some((l) => String(l.id) === v.listId)) issue('listId', 'choose a saved list');
       if (v.windowKind === 'last' && v.lastN < MIN_OBSERVATIONS_PER_ASSET) issue('lastN', `the window needs at least ${MIN_OBSERVATIONS_PER_ASSET} observations per asset`);
       if (v.windowKind === 'dates') {
         if (!/^\d{4}-\d{2}-\d{2}$/.test(v.from)) issue('from', 'choose a start date');
@@ -71,8 +81,7 @@ function formSchema(assets: Asset[], lists: AssetListSummary[]) {
       if (v.weighting === 'exponential' && !(v.halfLife > 0)) issue('halfLife', 'the half-life must be a positive number of periods');
       if ((v.estimator === 'fa' || v.estimator === 'ppca') && v.factorsMode === 'number') {
         if (v.factors < 1) issue('factors', 'at least one factor');
-        else if (universeSize > 0 && v.factors >= universeSize) issue('factors', `factors must be below the number of assets (${universeSize})`);
-        else if (v.factors > MAX_FACTORS) issue('factors', `at most ${MAX_FACTORS} factors`);
+        else if (v.factors > maxFactorsFor(universeSize)) issue('factors', factorsLimitMessage(universeSize));
       }
     });
 }
@@ -146,6 +155,14 @@ export function RunForm({ onQueued }: { onQueued: (run: ModelRun) => void }) {
   const values = useWatch({ control: form.control }) as FormValues;
   const sectors = useMemo(() => [...new Set(assetList.map((a) => a.sector).filter((s): s is string => !!s))].sort(), [assetList]);
   const isFactor = values.estimator === 'fa' || values.estimator === 'ppca';
+  const universeSize = universeSizeOf(values, assetList, lists);
+  const maxFactors = maxFactorsFor(universeSize);
+  const symbolsField = form.register('symbols');
+  // The factors' limit follows the universe: a shown factors error is checked again when the universe changes.
+  const factorsError = !!errors.factors;
+  useEffect(() => {
+    if (factorsError) void form.trigger('factors');
+  }, [universeSize, factorsError, form]);
   const lambda = values.weighting === 'exponential' && values.halfLife > 0 ? Math.pow(0.5, 1 / values.halfLife) : null;
 
   const submit = form.handleSubmit((v) =>
@@ -199,7 +216,18 @@ export function RunForm({ onQueued }: { onQueued: (run: ModelRun) => void }) {
           ) : null}
           {values.universeKind === 'assets' ? (
             <Field label="Symbols" error={errors.symbols?.message} hint="Separated by commas, spaces or new lines.">
-              <textarea rows={3} className="field-input font-mono" {...form.register('symbols')} />
+              <textarea
+                rows={3}
+                className="field-input font-mono"
+                {...symbolsField}
+                onChange={(e) => {
+                  // Upper-cased as typed, keeping the caret where it was.
+                  const { selectionStart, selectionEnd } = e.target;
+                  e.target.value = e.target.value.toUpperCase();
+                  e.target.setSelectionRange(selectionStart, selectionEnd);
+                  return symbolsField.onChange(e);
+                }}
+              />
             </Field>
           ) : null}
           {values.universeKind === 'assets' ? (
@@ -252,7 +280,11 @@ export function RunForm({ onQueued }: { onQueued: (run: ModelRun) => void }) {
             </select>
           </Field>
           {values.windowKind === 'last' ? (
-            <Field label="Observations (N dates)" error={errors.lastN?.message} hint={`At least ${MIN_OBSERVATIONS_PER_ASSET} per asset.`}>
+            <Field
+              label="Observations (dates)"
+              error={errors.lastN?.message}
+              hint={`The last this many dates. Each asset needs at least ${MIN_OBSERVATIONS_PER_ASSET} observed dates in the window.`}
+            >
               <input type="number" min={MIN_OBSERVATIONS_PER_ASSET} className="field-input font-mono" {...form.register('lastN', { valueAsNumber: true })} />
             </Field>
           ) : (
@@ -304,8 +336,12 @@ export function RunForm({ onQueued }: { onQueued: (run: ModelRun) => void }) {
                 </select>
               </Field>
               {values.factorsMode === 'number' ? (
-                <Field label="Factors (L)" error={errors.factors?.message} hint="Must be below the number of assets.">
-                  <input type="number" min={1} max={MAX_FACTORS} className="field-input font-mono" {...form.register('factors', { valueAsNumber: true })} />
+                <Field
+                  label="Factors (L)"
+                  error={errors.factors?.message}
+                  hint={maxFactors < MAX_FACTORS ? `1 to ${maxFactors}: below the number of assets (${universeSize}).` : universeSize > 1 ? `1 to ${MAX_FACTORS}.` : `1 to ${MAX_FACTORS}, and below the number of assets.`}
+                >
+                  <input type="number" min={1} max={maxFactors} className="field-input font-mono" {...form.register('factors', { valueAsNumber: true })} />
                 </Field>
               ) : (
                 <p className="text-xs text-ink-faint">Fits L = 1 … 10 and chooses by the held-out log-likelihood (small panels) or BIC; the reason is shown with the model.</p>
