@@ -130,7 +130,16 @@ describe('model runs in the browser', () => {
     await row.getByRole('link', { name: label! }).click();
     await page.getByRole('heading', { name: `Model ${label}` }).waitFor();
     await page.getByText('You ran this fit: a second analyst or an administrator approves it.').waitFor();
-    await page.getByRole('region', { name: 'Model assets' }).waitFor();
+    const assetGrid = page.getByRole('region', { name: 'Model assets' });
+    await assetGrid.waitFor();
+    // Factor volatility (ann. %) = √(hᵢ · periods per year) × 100 from the communality shown in %² per period.
+    const periodsPerYear = Number((await page.getByText(/are\s+annualised by √\d+/).textContent())?.match(/annualised by √(\d+)/)?.[1]);
+    expect(periodsPerYear).toBeGreaterThan(0);
+    const firstRow = assetGrid.locator('[role="row"][row-index="0"]');
+    const communality = Number(await firstRow.locator('[col-id="communality"]').textContent());
+    const factorVol = Number(await firstRow.locator('[col-id="factorVolatility"]').textContent());
+    expect(communality).toBeGreaterThan(0);
+    expect(factorVol).toBeCloseTo(Math.sqrt((communality / 1e4) * periodsPerYear) * 100, 1);
     // The loadings heatmap: standardised (correlations, fixed −1…1 scale) by default, raw on request.
     const heatmap = page.getByRole('img', { name: `Loadings of ${N} assets on 3 factors` });
     await heatmap.waitFor();

@@ -1,6 +1,6 @@
 import { useMemo, useState } from 'react';
 import { Link, useParams } from 'react-router-dom';
-import type { ColDef } from 'ag-grid-community';
+import { ModuleRegistry, TooltipModule, type ColDef } from 'ag-grid-community';
 import { ESTIMATOR_LABELS, type ModelResults, type ModelRun } from '@shared/schemas/modelRuns';
 import { PageHeader } from '../../components/PageHeader';
 import { Card } from '../../components/Card';
@@ -21,15 +21,51 @@ type AssetRow = ModelResults['assetRows'][number];
 
 const percent = (v: number | null) => (v === null || v === undefined ? null : v * 100);
 
-const ASSET_COLUMNS: ColDef<AssetRow>[] = [
-  { field: 'symbol', headerName: 'Symbol', pinned: 'left', minWidth: 90, maxWidth: 130, cellClass: 'll-figure' },
-  { field: 'name', headerName: 'Name', minWidth: 160, flex: 1.6 },
-  { field: 'sector', headerName: 'Sector', minWidth: 120 },
-  { field: 'communality', headerName: 'Communality', type: 'figure', minWidth: 120, valueFormatter: (p) => (p.value === null ? '—' : Number(p.value).toExponential(3)) },
-  { field: 'specificVolatility', headerName: 'Specific vol (ann. %)', type: 'figure', minWidth: 120, valueGetter: (p) => percent(p.data?.specificVolatility ?? null), valueFormatter: (p) => (p.value === null ? '—' : formatNumber(p.value, 2)) },
-  { field: 'factorShare', headerName: 'Factor share (%)', type: 'figure', minWidth: 110, valueGetter: (p) => percent(p.data?.factorShare ?? null), valueFormatter: (p) => (p.value === null ? '—' : formatNumber(p.value, 1)) },
-  { colId: 'heywood', headerName: 'Heywood', minWidth: 100, cellDataType: 'text', valueGetter: (p) => (p.data?.heywood ? 'at floor' : 'no') },
-];
+// Header tooltips say what the variance and volatility columns measure and in which unit.
+ModuleRegistry.registerModules([TooltipModule]);
+
+/** Annualised factor volatility √(hᵢ · periods per year), square-root-of-time scaling (common practice). */
+const factorVolatility = (communality: number | null, periodsPerYear: number) => (communality === null ? null : Math.sqrt(communality * periodsPerYear));
+
+const figureOrDash = (digits: number) => (p: { value: number | null | undefined }) => (p.value === null || p.value === undefined ? '—' : formatNumber(p.value, digits));
+
+function assetColumns(periodsPerYear: number): ColDef<AssetRow>[] {
+  return [
+    { field: 'symbol', headerName: 'Symbol', pinned: 'left', minWidth: 90, maxWidth: 130, cellClass: 'll-figure' },
+    { field: 'name', headerName: 'Name', minWidth: 160, flex: 1.6 },
+    { field: 'sector', headerName: 'Sector', minWidth: 120 },
+    {
+      colId: 'factorVolatility',
+      headerName: 'Factor vol (ann. %)',
+      headerTooltip: `Factor volatility, annualised: √(hᵢ · ${periodsPerYear}) — the part of the asset's volatility the factors explain`,
+      type: 'figure',
+      minWidth: 120,
+      valueGetter: (p) => percent(factorVolatility(p.data?.communality ?? null, periodsPerYear)),
+      valueFormatter: figureOrDash(2),
+    },
+    {
+      field: 'specificVolatility',
+      headerName: 'Specific vol (ann. %)',
+      headerTooltip: `Specific volatility, annualised: √(Ψᵢ · ${periodsPerYear})`,
+      type: 'figure',
+      minWidth: 120,
+      valueGetter: (p) => percent(p.data?.specificVolatility ?? null),
+      valueFormatter: figureOrDash(2),
+    },
+    {
+      colId: 'communality',
+      headerName: 'Communality (%², per period)',
+      headerTooltip: 'Communality hᵢ = Σₖ Wᵢₖ²: the factor part of the per-period return variance, in squared percent (1 %² = 0.0001), not annualised',
+      type: 'figure',
+      minWidth: 130,
+      // Variance of simple returns ×10⁴ reads as %² (a daily 0.000144 is 1.44 %², i.e. 1.2 % a day).
+      valueGetter: (p) => (p.data?.communality === null || p.data?.communality === undefined ? null : p.data.communality * 1e4),
+      valueFormatter: figureOrDash(4),
+    },
+    { field: 'factorShare', headerName: 'Factor share (%)', type: 'figure', minWidth: 110, valueGetter: (p) => percent(p.data?.factorShare ?? null), valueFormatter: figureOrDash(1) },
+    { colId: 'heywood', headerName: 'Heywood', minWidth: 100, cellDataType: 'text', valueGetter: (p) => (p.data?.heywood ? 'at floor' : 'no') },
+  ];
+}
 
 function Summary({ run, results }: { run: ModelRun; results: ModelResults }) {
   const d = results.diagnostics;
@@ -214,6 +250,8 @@ export default function ModelPage() {
   const loadings = useModelLoadings(id, orientation, succeeded && isFactor);
   const cancel = useCancelRun();
   const rows = useMemo(() => results.data?.assetRows, [results.data]);
+  const periodsPerYear = results.data?.periodsPerYear;
+  const columns = useMemo(() => assetColumns(periodsPerYear ?? 0), [periodsPerYear]);
 
   if (run.isError) return <ErrorAlert error={run.error} />;
   if (!run.data) return <p className="text-sm text-ink-faint">Loading…</p>;
@@ -269,7 +307,7 @@ export default function ModelPage() {
           <Card title="Assets">
             <DataGrid<AssetRow>
               rows={rows}
-              columns={ASSET_COLUMNS}
+              columns={columns}
               getRowId={(p) => String(p.data.assetId)}
               csvFileName={`loadline-model-${r.label.replace(/\s+/g, '-')}-assets.csv`}
               quickSearch
@@ -278,7 +316,8 @@ export default function ModelPage() {
               rowClass={(row) => (row.heywood ? 'll-row-muted' : undefined)}
             />
             <p className="mt-2 text-xs text-ink-faint">
-              Communality hᵢ = Σₖ Wᵢₖ² and the factor share hᵢ/(hᵢ + Ψᵢ) do not depend on the orientation of the loadings. Specific volatility is √Ψᵢ annualised by √{results.data.periodsPerYear} (common practice).
+              Communality hᵢ = Σₖ Wᵢₖ² and the factor share hᵢ/(hᵢ + Ψᵢ) do not depend on the orientation of the loadings. Factor volatility √hᵢ and specific volatility √Ψᵢ are
+              annualised by √{results.data.periodsPerYear} (square-root-of-time, common practice); communality itself is the per-period variance in %² (1 %² = 0.0001).
             </p>
           </Card>
           {isFactor ? (
