@@ -53,6 +53,7 @@ export default function ComparePage() {
                   ))}
                 </ul>
                 <p className="text-xs text-ink-soft">{c.note}</p>
+                <LargestAngleNote anglesDegrees={c.principalAnglesDegrees} />
               </div>
             ) : (
               <p className="text-sm text-ink-soft">At least one of the two is a dense covariance (sample or Ledoit–Wolf): there is no loading subspace to compare.</p>
@@ -110,5 +111,20 @@ export default function ComparePage() {
         </>
       ) : null}
     </div>
+  );
+}
+
+/**
+ * Said when the largest principal angle passes 45° (Björck & Golub 1973): near 90° a direction spanned by one model's
+ * loadings has no counterpart in the other's.
+ */
+function LargestAngleNote({ anglesDegrees }: { anglesDegrees: number[] }) {
+  if (!anglesDegrees.length) return null;
+  const largest = Math.max(...anglesDegrees);
+  if (!(largest > 45)) return null;
+  return (
+    <p className="text-sm text-ink" data-testid="largest-angle-note">
+      The largest angle is {formatNumber(largest, 1)}°, above 45°: a direction in one model has little or no counterpart in the other (near 90°, none).
+    </p>
   );
 }
