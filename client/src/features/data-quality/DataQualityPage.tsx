@@ -164,7 +164,15 @@ function BatchDetail({ id, onClose }: { id: number; onClose: () => void }) {
   );
 }
 
+/** The figures here are history of the stored returns, not model estimates: the caution says so. */
+const HISTORY_CAUTION =
+  'These are historical statistics of the stored returns, not forecasts or model estimates. Past volatility may not predict future volatility. The firm’s risk policy governs every decision.';
+
+/** Tall enough for well over 13 rows: 520 px, or two thirds of a taller window (short tables still shrink to their rows). */
+const assetGridHeightFor = (windowHeight: number) => Math.max(520, Math.round(windowHeight * 0.66));
+
 export default function DataQualityPage() {
+  const assetGridHeight = useMemo(() => assetGridHeightFor(window.innerHeight), []);
   const user = useCurrentUser();
   const canImport = user.role === 'analyst' || user.role === 'admin';
   const quality = useDataQuality();
@@ -200,13 +208,17 @@ export default function DataQualityPage() {
           getRowId={(p) => String(p.data.assetId)}
           quickSearch
           csvFileName="loadline-data-quality.csv"
-          height={460}
+          height={assetGridHeight}
           onRowClicked={(row) => setAssetId(row.assetId)}
           ariaLabel="Data quality by asset"
           emptyMessage="No assets yet: import return series first"
         />
         <div className="mt-2">
-          <Caution compact extra={`Volatility is annualised with the square root of ${quality.data?.periodsPerYear ?? 252} periods a year. Outliers: |0.6745 (x − median) / MAD| > 3.5 (Iglewicz and Hoaglin, 1993).`} />
+          <Caution
+            compact
+            text={HISTORY_CAUTION}
+            extra={`Volatility is annualised with the square root of ${quality.data?.periodsPerYear ?? 252} periods a year (square-root-of-time scaling). Outliers: |0.6745 (x − median) / MAD| > 3.5 (Iglewicz and Hoaglin, 1993).`}
+          />
         </div>
       </Card>
 
