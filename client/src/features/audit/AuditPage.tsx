@@ -3,7 +3,7 @@ import { useSearchParams } from 'react-router-dom';
 import { useForm } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { z } from 'zod';
-import type { ColDef } from 'ag-grid-community';
+import { ModuleRegistry, TooltipModule, type ColDef } from 'ag-grid-community';
 import type { AuditEventView, AuditFilter } from '@shared/schemas/audit';
 import { PageHeader } from '../../components/PageHeader';
 import { Card } from '../../components/Card';
@@ -14,6 +14,10 @@ import { DataGrid } from '../../components/DataGrid';
 import { Pager } from '../../components/Pager';
 import { formatCount, formatDateTimeSeconds } from '../../lib/format';
 import { useAuditActions, useAuditEvents, useExportAudit } from './api';
+import { formatAuditDetails } from './formatDetails';
+
+// Long details show in full on hover.
+ModuleRegistry.registerModules([TooltipModule]);
 
 const PAGE_SIZE = 100;
 const FILTER_KEYS = ['actor', 'action', 'objectType', 'objectId', 'from', 'to'] as const;
@@ -75,9 +79,9 @@ export default function AuditPage() {
       {
         colId: 'details',
         headerName: 'Details',
-        valueGetter: (p) => (p.data && Object.keys(p.data.details).length ? JSON.stringify(p.data.details) : ''),
-        tooltipValueGetter: undefined,
-        cellClass: 'll-figure',
+        // Readable pairs on screen; the server's CSV export keeps the JSON.
+        valueGetter: (p) => (p.data ? formatAuditDetails(p.data.details) : ''),
+        tooltipValueGetter: (p) => p.value || undefined,
         flex: 2,
         minWidth: 240,
       },
