@@ -4,6 +4,7 @@ import { openTestPage, signInThroughUi, startBrowserSuite } from '../helpers/bro
 import { unique } from '../helpers/app';
 import { createKnex } from '../../server/db/knex';
 import { loadConfig } from '../../server/config';
+import { typeInGridCell } from '../helpers/gridEditing';
 
 const knex = createKnex(loadConfig().databaseUrl, { max: 2 });
 const name = `Editor fund ${unique('ED')}`;
@@ -37,22 +38,7 @@ beforeEach(async () => {
 
 const holdingsRow = (rowIndex: number) => page.getByRole('region', { name: 'Holdings' }).locator(`[role="row"][row-index="${rowIndex}"]`);
 
-/** Opens the holdings grid's editor on one cell (a click can land while the grid still settles), types, presses Enter. */
-async function typeInCell(rowIndex: number, text: string, column = 'value'): Promise<void> {
-  const cell = holdingsRow(rowIndex).locator(`[role="gridcell"][col-id="${column}"]`);
-  const editor = cell.locator('input');
-  await expect
-    .poll(
-      async () => {
-        if (!(await editor.isVisible())) await cell.click();
-        return editor.isVisible();
-      },
-      { timeout: 15_000, interval: 500 },
-    )
-    .toBe(true);
-  await editor.fill(text);
-  await editor.press('Enter');
-}
+const typeInCell = (rowIndex: number, text: string, column = 'value') => typeInGridCell(page, 'Holdings', rowIndex, text, column);
 
 const storedWeights = async () => (await knex('portfolio_holdings').where({ portfolio_id: portfolioId }).orderBy('position')).map((h) => h.weight);
 const navLink = (label: string) => page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: label, exact: true });

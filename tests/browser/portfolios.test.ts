@@ -8,6 +8,7 @@ import { createKnex } from '../../server/db/knex';
 import { loadConfig } from '../../server/config';
 import { plantedPanel } from '../../server/engine/planted';
 import { insertReturnSeries, removeAssets, storeFittedRun } from '../helpers/portfolioModels';
+import { typeInGridCell } from '../helpers/gridEditing';
 
 const N = 25;
 const T = 180;
@@ -45,26 +46,8 @@ afterAll(async () => {
 
 const figure = (page: Page, id: string) => page.getByTestId(id).textContent();
 
-/**
- * Opens a holdings grid's editor on one cell (a click can land while the grid still settles), types, presses Enter.
- * `column`: 'value' (the weight) or 'symbol'.
- */
-async function typeWeight(page: Page, rowIndex: number, text: string, gridName = 'What-if weights', column = 'value'): Promise<void> {
-  const grid = page.getByRole('region', { name: gridName });
-  const cell = grid.locator(`[role="row"][row-index="${rowIndex}"] [role="gridcell"][col-id="${column}"]`);
-  const editor = cell.locator('input');
-  await expect
-    .poll(
-      async () => {
-        if (!(await editor.isVisible())) await cell.click();
-        return editor.isVisible();
-      },
-      { timeout: 15_000, interval: 500 },
-    )
-    .toBe(true);
-  await editor.fill(text);
-  await editor.press('Enter');
-}
+/** Types into the what-if (or another named) holdings grid: 'value' (the weight) or 'symbol'. */
+const typeWeight = (page: Page, rowIndex: number, text: string, gridName = 'What-if weights', column = 'value') => typeInGridCell(page, gridName, rowIndex, text, column);
 
 /** Waits until the FA volatility differs from `previous` and nothing is being recomputed; returns it. */
 async function volatilityChangedFrom(page: Page, previous: string | null): Promise<string | null> {
