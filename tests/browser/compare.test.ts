@@ -69,6 +69,14 @@ describe('compare page', () => {
     await page.goto(`${suite.url}/models/compare?first=${runs.firstFa}&second=${runs.firstPpca}`);
     expect(Math.max(...(await angles()))).toBeLessThanOrEqual(45);
     expect(await page.getByTestId('largest-angle-note').count()).toBe(0);
+    // Communalities in squared percent per period, as on the model page, and the change is second − first.
+    // The row of the first asset (the symbol column is pinned, so its cells sit in another row element).
+    const row = page.locator('[role="row"][row-index="0"]').filter({ has: page.locator('[col-id="communalityFirst"]') });
+    await row.waitFor();
+    const cell = async (col: string) => ((await row.locator(`[col-id="${col}"]`).textContent()) ?? '').trim();
+    await expect.poll(() => cell('communalityFirst')).toMatch(/^\d+\.\d{4}$/);
+    const [a, b, change] = [Number(await cell('communalityFirst')), Number(await cell('communalitySecond')), Number((await cell('communalityChange')).replace('−', '-'))];
+    expect(change).toBeCloseTo(b - a, 3);
     await page.close();
   });
 });

@@ -14,7 +14,8 @@ type Row = ModelComparison['assets'][number];
 
 const pct = (v: number | null | undefined) => (v === null || v === undefined ? null : v * 100);
 const fmt = (digits: number, signed = false) => (p: { value: number | null }) => (p.value === null || p.value === undefined ? '—' : formatNumber(p.value, digits, signed));
-const sci = (p: { value: number | null }) => (p.value === null || p.value === undefined ? '—' : Number(p.value).toExponential(3));
+/** Per-period variance as squared percent, as on the model page (1 %² = 0.0001). */
+const squaredPercent = (v: number | null | undefined) => (v === null || v === undefined ? null : v * 1e4);
 
 /** Two model versions side by side: how far their loading subspaces are apart and how each asset changed. */
 export default function ComparePage() {
@@ -26,9 +27,9 @@ export default function ComparePage() {
   const columns = useMemo<ColDef<Row>[]>(
     () => [
       { field: 'symbol', headerName: 'Symbol', pinned: 'left', cellClass: 'll-figure', minWidth: 90, maxWidth: 130 },
-      { field: 'communalityFirst', headerName: `Communality ${c?.first.label ?? 'A'}`, type: 'figure', minWidth: 120, valueFormatter: sci },
-      { field: 'communalitySecond', headerName: `Communality ${c?.second.label ?? 'B'}`, type: 'figure', minWidth: 120, valueFormatter: sci },
-      { field: 'communalityChange', headerName: 'Change', type: 'figure', minWidth: 120, valueFormatter: sci },
+      { colId: 'communalityFirst', headerName: `Communality ${c?.first.label ?? 'A'} (%²)`, type: 'figure', minWidth: 120, valueGetter: (p) => squaredPercent(p.data?.communalityFirst), valueFormatter: fmt(4) },
+      { colId: 'communalitySecond', headerName: `Communality ${c?.second.label ?? 'B'} (%²)`, type: 'figure', minWidth: 120, valueGetter: (p) => squaredPercent(p.data?.communalitySecond), valueFormatter: fmt(4) },
+      { colId: 'communalityChange', headerName: 'Change (%²)', type: 'figure', minWidth: 110, valueGetter: (p) => squaredPercent(p.data?.communalityChange), valueFormatter: fmt(4, true) },
       { headerName: `Specific vol ${c?.first.label ?? 'A'} (%)`, type: 'figure', minWidth: 120, valueGetter: (p) => pct(p.data?.specificVolFirst), valueFormatter: fmt(2) },
       { headerName: `Specific vol ${c?.second.label ?? 'B'} (%)`, type: 'figure', minWidth: 120, valueGetter: (p) => pct(p.data?.specificVolSecond), valueFormatter: fmt(2) },
       { headerName: 'Change (pp)', type: 'figure', minWidth: 120, valueGetter: (p) => pct(p.data?.specificVolChange), valueFormatter: fmt(2, true) },
