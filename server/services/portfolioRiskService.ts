@@ -637,12 +637,6 @@ async function benchmarkFrom(row: Pick<PortfolioRow, 'id' | 'name' | 'version'> 
   return holdings.length ? { id: row.id, name: row.name, version: row.version, holdings } : null;
 }
 
-/** Risk of a saved portfolio. */
-export async function portfolioRiskReport(user: Actor, portfolioId: number, request: RiskRequest): Promise<PortfolioRisk> {
-  const inputs = await savedRiskInputs(user, portfolioId, request);
-  return computeRisk(inputs.portfolio, inputs.holdings, inputs.benchmark, request, false, inputs.runs, inputs.modelNote);
-}
-
 interface SavedPortfolioRow {
   id: number;
   name: string;
@@ -669,15 +663,22 @@ async function savedRiskRows(user: Actor, portfolioId: number, chosen: number | 
   return result.rows[0] as { portfolio: SavedPortfolioRow | null; benchmark: SavedPortfolioRow | null; runs: RunRowWithStatus[] };
 }
 
-async function savedRiskInputs(user: Actor, portfolioId: number, request: RiskRequest) {
-  const rows = await savedRiskRows(user, portfolioId, request.model);
-  // A portfolio the caller may not read answers 404 before anything is said about models.
+/** The readable portfolio, its benchmark's holdings and the model runs; a portfolio the caller may not read answers 404 before anything is said about models. */
+async function readableRiskInputs(user: Actor, portfolioId: number, chosen: number | undefined) {
+  const rows = await savedRiskRows(user, portfolioId, chosen);
   const row = rows.portfolio;
   if (!row) throw notFound(`Portfolio ${portfolioId} does not exist or is not yours to see`);
-  const [holdings, benchmark] = await Promise.all([cachedHoldings(row.id, row.version), benchmarkFrom(rows.benchmark)]);
+  const runs = pickRuns(rows.runs, chosen);
+  const benchmark = await benchmarkFrom(rows.benchmark);
+  return { row, portfolio: { id: row.id, name: row.name, baseCurrency: row.base_currency.trim() }, benchmark, runs };
+}
+
+async function savedRiskInputs(user: Actor, portfolioId: number, request: RiskRequest) {
+  const { row, portfolio, benchmark, runs } = await readableRiskInputs(user, portfolioId, request.model);
+  const holdings = await cachedHoldings(row.id, row.version);
   if (!holdings.length) throw unprocessable(`Portfolio '${row.name}' has no holdings yet`, [{ path: 'holdings', message: 'add holdings before asking for risk' }]);
-  const resolved = await coveringDefault(pickRuns(rows.runs, request.model), request.model, holdings.map((h) => h.assetId));
-  return { portfolio: { id: row.id, name: row.name, baseCurrency: row.base_currency.trim() }, version: row.version, holdings, benchmark, runs: resolved.runs, modelNote: resolved.note };
+  const resolved = await coveringDefault(runs, request.model, holdings.map((h) => h.assetId));
+  return { portfolio, version: row.version, holdings, benchmark, runs: resolved.runs, modelNote: resolved.note };
 }
 
 /**
@@ -724,11 +725,7 @@ export async function portfolioRiskJson(user: Actor, portfolioId: number, reques
 /** Risk of edited weights for a saved portfolio (nothing is stored). Weights are used as given. */
 export async function whatIfRisk(user: Actor, portfolioId: number, weights: { symbol: string; weight: number }[], request: RiskRequest): Promise<PortfolioRisk> {
   // The portfolio, its benchmark and the runs in one query, as for the saved portfolio's risk.
-  const rows = await savedRiskRows(user, portfolioId, request.model);
-  const row = rows.portfolio;
-  if (!row) throw notFound(`Portfolio ${portfolioId} does not exist or is not yours to see`);
-  const runs = pickRuns(rows.runs, request.model);
-  const benchmark = await benchmarkFrom(rows.benchmark);
+  const { row, portfolio, benchmark, runs } = await readableRiskInputs(user, portfolioId, request.model);
   const { primary } = runs;
   // Symbols: unknown ones and duplicates name their row; the asset table is asked only for symbols outside the model.
   const context = await modelContext(primary.id);
@@ -755,7 +752,7 @@ export async function whatIfRisk(user: Actor, portfolioId: number, weights: { sy
   const names = new Map((await cachedHoldings(row.id, row.version)).map((h) => [h.symbol.toUpperCase(), h.name]));
   for (const h of held) if (h.name === null) h.name = names.get(h.symbol) ?? null;
   const resolved = await coveringDefault(runs, request.model, held.map((h) => h.assetId));
-  return computeRisk({ id: row.id, name: row.name, baseCurrency: row.base_currency.trim() }, held, benchmark, { ...request, model: resolved.runs.primary.id }, true, resolved.runs, resolved.note);
+  return computeRisk(portfolio, held, benchmark, request, true, resolved.runs, resolved.note);
 }
 
 export type { FactorModel };
