@@ -17,7 +17,8 @@ import type { Knex } from 'knex';
 import type { User } from '../models/User';
 import { listenTo, type Listener } from '../db/listen';
 
-export const USER_CHANGED_CHANNEL = 'loadline_user_changed';
+/** The channel the users trigger announces on (migration 20261202040100 names it too). */
+const USER_CHANGED_CHANNEL = 'loadline_user_changed';
 const USER_TTL_MS = 30_000;
 const MAX_USERS = 5000;
 
@@ -75,9 +76,8 @@ export async function sessionUser(id: number): Promise<CachedUser | undefined> {
   if (kept && now - kept.at < USER_TTL_MS) return kept.user;
   const before = clock;
   // A plain query, not the User model: the model's hooks call into this module.
-  const row = (await (Model.knex() as Knex)('users').where({ id }).first('id', 'email', 'name', 'role', 'active', 'sessions_valid_after')) as CachedUser | undefined;
-  if (!row) return undefined;
-  const user: CachedUser = { id: row.id, email: row.email, name: row.name, role: row.role, active: row.active, sessions_valid_after: row.sessions_valid_after };
+  const user = (await (Model.knex() as Knex)('users').where({ id }).first('id', 'email', 'name', 'role', 'active', 'sessions_valid_after')) as CachedUser | undefined;
+  if (!user) return undefined;
   if (live && allChangedAt <= before && (changedAt.get(id) ?? 0) <= before) {
     entries.set(id, { user, at: now });
     if (entries.size > MAX_USERS) entries.delete(entries.keys().next().value!);
@@ -101,14 +101,4 @@ export function usersChanged(transaction?: Knex | Knex.Transaction): void {
 /** Whether entries are being kept (the LISTEN connection is up) and whether this user is kept now (tests). */
 export function userCacheState(id?: number): { live: boolean; kept: boolean } {
   return { live, kept: id !== undefined && entries.has(id) };
-}
-
-/** Stops listening and forgets everyone (tests). */
-export async function stopUserCache(): Promise<void> {
-  const current = listener;
-  listener = null;
-  live = false;
-  lostSince = 0;
-  forgetAll();
-  await current?.stop();
 }
