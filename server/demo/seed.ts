@@ -4,7 +4,7 @@ import { DEMO_USERS } from './users';
 import { seedDemoAssetLists, DEMO_ASSET_LIST_NAMES } from './assetLists';
 import { DEMO_PORTFOLIOS, seedDemoPortfolios } from './portfolios';
 import { demoAssets, seedDemoReturns } from './returns';
-import { seedDemoModels } from './models';
+import { DEMO_MODEL_RUNS, seedDemoModels } from './models';
 import { join } from 'node:path';
 import { paths } from '../config';
 
@@ -52,7 +52,7 @@ const DEMO_PARTS: DemoPart[] = [
   {
     // Approved demo models (fitted directly by the engine, approved by the second demo analyst).
     name: 'models',
-    wanted: async (knex) => (await demoReturnsPresent(knex)) && !(await exists(knex('model_runs').whereRaw(`parameters->>'label' = 'demo'`))),
+    wanted: async (knex) => (await demoReturnsPresent(knex)) && !(await exists(knex('model_runs').whereRaw(`parameters->>'label' = ANY(?)`, [DEMO_MODEL_RUNS.map((r) => r.label ?? '')]))),
     seed: (knex, log) => seedDemoModels(knex, log),
   },
   {
